@@ -171,8 +171,8 @@ def steady_glide(glide_angle, net_buoyancy, density, reference_area, zero_lift_d
     as 2 C_D0 / (tan(gamma) + sqrt(disc)), which has no cancellation and stays finite for
     K -> 0 and gamma -> pi/2. No root exists when the discriminant is negative
     (GLIDE_BELOW_MINIMUM_ANGLE; with K = 0 this is gamma = 0); a root above C_L,max is
-    GLIDE_STALL (for K = 0 the slow root is infinite, hence always a stall). Speed V = sqrt(2 B cos(gamma) / (rho S C_L)),
-    u = V cos(gamma), w = V sin(gamma).
+    GLIDE_STALL (for K = 0 the slow root is infinite, hence always a stall).
+    Speed V = sqrt(2 B cos(gamma) / (rho S C_L)), u = V cos(gamma), w = V sin(gamma).
 
     References
     ----------
