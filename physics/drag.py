@@ -70,8 +70,7 @@ def ittc1957_friction(reynolds):
     References
     ----------
     .. [1] ITTC, 1957: Proceedings of the 8th International Towing Tank Conference, Madrid.
-    .. [2] Morrall, A., 1970: 1961 ITTC trial of the SS Lucy Ashton - an update of the
-       friction line. NPL Ship Report 142.
+    .. [2] Morrall, A., 1970: NPL Ship Report 142, National Physical Laboratory.
     """
     re = np.asarray(reynolds, dtype=float)
     with np.errstate(divide="ignore"):
@@ -95,7 +94,7 @@ def hoerner_form_factor(length, diameter):
 
     Notes
     -----
-    1 + k = 1 + 1.5 (d/l)^1.5 + 7 (d/l)^3 (Hoerner 1965, ch. 6, Eq. 27 [1]_).
+    1 + k = 1 + 1.5 (d/l)^1.5 + 7 (d/l)^3 (Hoerner 1965, ch. 6 [1]_).
 
     References
     ----------
@@ -271,8 +270,8 @@ def rough_friction(length, roughness):
 
     References
     ----------
-    .. [1] Schlichting, H., 1979: Boundary-Layer Theory, 7th ed. McGraw-Hill, ch. XXI
-       (rough flat plate; Prandtl & Schlichting 1934).
+    .. [1] Schlichting, H., 1979: Boundary-Layer Theory, 7th ed. McGraw-Hill (rough flat
+       plate, after Prandtl & Schlichting 1934).
     """
     length = np.asarray(length, dtype=float)
     ks = np.asarray(roughness, dtype=float)
@@ -305,7 +304,7 @@ def roughness_reynolds_number(speed, roughness, kinematic_viscosity, friction_co
 
     References
     ----------
-    .. [1] Schlichting, H., 1979: Boundary-Layer Theory, 7th ed., ch. XX.
+    .. [1] Schlichting, H., 1979: Boundary-Layer Theory, 7th ed. McGraw-Hill.
     """
     u = np.asarray(speed, dtype=float)
     ks = np.asarray(roughness, dtype=float)
@@ -354,7 +353,7 @@ def friction_with_roughness(speed, length, kinematic_viscosity, roughness):
 
     References
     ----------
-    .. [1] Schlichting, H., 1979: Boundary-Layer Theory, 7th ed., ch. XXI.
+    .. [1] Schlichting, H., 1979: Boundary-Layer Theory, 7th ed. McGraw-Hill.
     .. [2] Schultz, M.P., 2007: Effects of coating roughness and biofouling on ship
        resistance and powering. Biofouling 23(5):331-341.
     """

@@ -34,7 +34,7 @@ def lift_curve_slope(aspect_ratio, *, span_efficiency=1.0, section_slope=2.0 * n
     Notes
     -----
     a = a0 / (1 + a0 / (pi e AR)); with a0 = 2 pi and e = 1 this is 2 pi AR / (AR + 2)
-    (Prandtl lifting-line theory, e.g. Eq. 5.69 of [1]_).
+    (Prandtl lifting-line theory, e.g. [1]_).
 
     References
     ----------
@@ -67,7 +67,7 @@ def lift_curve_slope_low_aspect(aspect_ratio):
     References
     ----------
     .. [1] Helmbold, H.B., 1942: Der unverwundene Ellipsenflügel als tragende Fläche.
-       Jahrbuch der deutschen Luftfahrtforschung, I113-I116.
+       Jahrbuch der deutschen Luftfahrtforschung (citation from memory).
     """
     ar = np.asarray(aspect_ratio, dtype=float)
     return 2.0 * np.pi * ar / (2.0 + np.sqrt(ar**2 + 4.0))
@@ -90,7 +90,7 @@ def induced_drag_factor(aspect_ratio, span_efficiency=1.0):
 
     References
     ----------
-    .. [1] Anderson, J.D., 2011: Fundamentals of Aerodynamics, 5th ed., Eq. 5.62.
+    .. [1] Anderson, J.D., 2011: Fundamentals of Aerodynamics, 5th ed. McGraw-Hill, ch. 5.
     """
     ar = np.asarray(aspect_ratio, dtype=float)
     e = np.asarray(span_efficiency, dtype=float)

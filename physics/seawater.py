@@ -23,7 +23,7 @@ VISCOSITY_TEMPERATURE_RANGE = (0.0, 180.0)  # [degC]
 VISCOSITY_SALINITY_RANGE = (0.0, 0.15)  # [kg/kg]
 
 # Reference-composition salinity per unit practical salinity, uPS = 35.16504/35 [g/kg]
-# (Millero et al. 2008; TEOS-10 manual Eq. 2.4.1).
+# (Millero et al. 2008, Deep-Sea Research I 55:50-72; TEOS-10 manual).
 _REFERENCE_SALINITY_PER_PSU = 35.16504 / 35.0
 
 
@@ -119,7 +119,7 @@ def dynamic_viscosity(temperature, practical_salinity):
     -----
     mu_sw = mu_w (1 + A S + B S^2), with
     A = 1.541 + 1.998e-2 t - 9.52e-5 t^2, B = 7.974 - 7.561e-2 t + 4.724e-4 t^2 and pure-water
-    mu_w = 4.2844e-5 + 1 / (0.157 (t + 64.993)^2 - 91.296) (Eqs. 22-23 of [1]_).
+    mu_w = 4.2844e-5 + 1 / (0.157 (t + 64.993)^2 - 91.296) ([1]_).
     Stated accuracy +/-1.5 % in 0-180 degC, 0-0.15 kg/kg.
 
     References
