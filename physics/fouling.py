@@ -10,8 +10,11 @@ class FoulingInputError(ValueError):
 
 
 def _check_time_constant(tau):
-    if np.any(tau < 0.0):
-        raise FoulingInputError("time_constant must be >= 0 [s] (inf = no fouling)")
+    bad = tau < 0.0
+    if np.any(bad):
+        raise FoulingInputError(
+            f"time_constant must be >= 0 [s] (inf = no fouling), got {float(tau[bad].flat[0])!r}"
+        )
 
 
 def fouling_state(clock, onset, time_constant):

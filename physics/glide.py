@@ -83,18 +83,22 @@ class GlidePolar(NamedTuple):
     vertical_speed: np.ndarray
 
 
+def _require(values, ok, name, expected):
+    """Raise GlideInputError naming the first offending value of ``name``."""
+    bad = ~ok
+    if np.any(bad):
+        first = np.asarray(values)[bad].flat[0]
+        raise GlideInputError(f"{name} must be {expected}, got {float(first)!r}")
+
+
 def _check_polar_inputs(net_buoyancy, density, reference_area, zero_lift_drag,
                         induced_drag_factor):
-    if np.any(net_buoyancy < 0.0):
-        raise GlideInputError("net_buoyancy must be a magnitude >= 0 [N]")
-    if np.any(density <= 0.0):
-        raise GlideInputError("density must be > 0 [kg/m3]")
-    if np.any(reference_area <= 0.0):
-        raise GlideInputError("reference_area must be > 0 [m2]")
-    if np.any(zero_lift_drag <= 0.0):
-        raise GlideInputError("zero_lift_drag must be > 0 (a drag-free body glides infinitely fast)")
-    if np.any(induced_drag_factor < 0.0):
-        raise GlideInputError("induced_drag_factor must be >= 0")
+    _require(net_buoyancy, net_buoyancy >= 0.0, "net_buoyancy", "a magnitude >= 0 [N]")
+    _require(density, density > 0.0, "density", "> 0 [kg/m3]")
+    _require(reference_area, reference_area > 0.0, "reference_area", "> 0 [m2]")
+    _require(zero_lift_drag, zero_lift_drag > 0.0, "zero_lift_drag",
+             "> 0 (a drag-free body would glide infinitely fast)")
+    _require(induced_drag_factor, induced_drag_factor >= 0.0, "induced_drag_factor", ">= 0")
 
 
 def minimum_glide_angle(zero_lift_drag, induced_drag_factor):
@@ -188,8 +192,8 @@ def steady_glide(glide_angle, net_buoyancy, density, reference_area, zero_lift_d
             glide_angle, net_buoyancy, density, reference_area, zero_lift_drag,
             induced_drag_factor, max_lift_coefficient))
     )
-    if np.any((gamma < 0.0) | (gamma > np.pi / 2.0)):
-        raise GlideInputError("glide_angle must be a magnitude in [0, pi/2] [rad]")
+    _require(gamma, (gamma >= 0.0) & (gamma <= np.pi / 2.0), "glide_angle",
+             "a magnitude in [0, pi/2] [rad]")
     _check_polar_inputs(b, rho, area, cd0, k)
 
     tan_gamma = np.tan(gamma)
@@ -265,7 +269,7 @@ def glide_polar(net_buoyancy, density, reference_area, zero_lift_drag, induced_d
     if n < 1:
         raise GlideInputError(f"n must be a positive number of points, got {n}")
     if not max_lift_coefficient > 0.0:
-        raise GlideInputError("max_lift_coefficient must be > 0")
+        raise GlideInputError(f"max_lift_coefficient must be > 0, got {max_lift_coefficient!r}")
     b, rho, area, cd0, k = (
         np.asarray(x, dtype=float)[..., np.newaxis]
         for x in (net_buoyancy, density, reference_area, zero_lift_drag, induced_drag_factor)
