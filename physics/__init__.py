@@ -6,7 +6,19 @@ Temperature (degC) and pressure (dbar) in :mod:`physics.seawater` follow TEOS-10
 only non-SI quantities.
 """
 
-from . import battery, buoyancy_engine, currents, drag, fouling, glide, lift, propulsion, seawater
+from . import (
+    battery,
+    buoyancy_engine,
+    currents,
+    drag,
+    fouling,
+    glide,
+    lift,
+    mission,
+    propulsion,
+    seawater,
+    states,
+)
 
 __all__ = [
     "battery",
@@ -16,6 +28,8 @@ __all__ = [
     "fouling",
     "glide",
     "lift",
+    "mission",
     "propulsion",
     "seawater",
+    "states",
 ]

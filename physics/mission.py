@@ -349,9 +349,8 @@ def fly_route(
             j = idx[cross]
             range_x[j] = x0[j] + frac * (new_x[cross] - x0[j])
             range_leg[j] = leg
-        no_range = np.isnan(range_x[idx])
+        no_range = np.isnan(range_x[idx])  # range ends at the stop; not an energy event
         range_x[idx[no_range]] = new_x[no_range]
-        range_leg[idx[no_range]] = leg
 
     class _Subset:
         """Rates of the few samples that stop inside a step (for the bisection)."""
@@ -384,8 +383,8 @@ def fly_route(
         cross = ok & (g0 > 0) & (g1 <= 0) & np.isnan(range_x)
         if cross.any():
             j = np.flatnonzero(cross)
-            d0 = (battery.drawable_rate(t0[j]) * k1t[j] - k1e[j]) * h[j]
-            d1 = (battery.drawable_rate(t1[j]) * k5t[j] - k5e[j]) * h[j]
+            d0 = (battery.drawable_rate(t0)[j] * k1t[j] - k1e[j]) * h[j]
+            d1 = (battery.drawable_rate(t1)[j] * k5t[j] - k5e[j]) * h[j]
             s = _hermite_root(g0[j], g1[j], d0, d1)
             range_x[j] = x0[j] + s * h[j]
             range_leg[j] = leg

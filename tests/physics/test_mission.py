@@ -52,7 +52,7 @@ def test_single_leg_constant_rates_range_is_energy_times_ground_speed_over_power
     battery = BatteryState(nominal_energy=energy, cold_derating=np.full(3, 0.9),
                            fade_rate=np.zeros(3), usable_fraction=np.full(3, 0.95),
                            reserve_fraction=np.full(3, 0.2))
-    out = _fly(rates, battery, 30e3, along=-0.1, across=0.3)
+    out = _fly(rates, battery, 30e3, along=-0.1, across=0.3, extension=3.0)
     power = 20.0 * 1.5 / 0.4 + 30.0
     ug = np.sqrt(1.5**2 - 0.3**2) - 0.1  # crab to hold the track (MODEL.md s6)
     drawable = energy * 0.9 * 0.95 * 0.8
@@ -88,7 +88,9 @@ def test_fouling_integral_closed_form_within_0p1_percent():
     expected_energy = hotel * T + d0 * speed / eta * (T + delta * phi_integral)
     used = 1e9 - out.margin[0]
     assert abs(used / expected_energy - 1) < 1e-3  # the issue's 0.1 % requirement
-    assert abs(used / expected_energy - 1) < 1e-5  # what 8 RK4 steps actually achieve
+    # what 8 RK4 steps achieve: the kink of phi at the onset limits the step containing it
+    # to second order, hence 1e-4 rather than RK4's usual ~1e-9 here
+    assert abs(used / expected_energy - 1) < 1e-4
 
 
 def test_legs_add_up_with_their_own_currents_and_hotel_loads():
