@@ -502,6 +502,7 @@ class _Reader:
         where = f"[{path}]" if path else "the top level"
         if other_kind and key in other_kind:
             expected = f"a key of {where} ({key!r} belongs to {other_kind[key]})"
+            close = []
         else:
             expected = f"a known key of {where} (one of: {', '.join(known)})"
         self.fail(_join(path, key), value, expected, close[0] if close else None)
@@ -539,9 +540,11 @@ class _Reader:
         marginal = parse_distribution(value, name=path, unit=unit_from_key(path), file=self.file)
         lo, hi = marginal.support
         if not rng.holds_support(lo, hi):
+            fix = (f"narrow it to lie within {rng.interval()}" if math.isfinite(lo) and math.isfinite(hi)
+                   else f"use {rng.suggestion()}")
             self.fail(path, dict(value),
                       f"{rng.what} in {rng.interval()}, but {marginal.describe()} has support "
-                      f"[{_num(lo)}, {_num(hi)}] which leaves it; use {rng.suggestion()}")
+                      f"[{_num(lo)}, {_num(hi)}] which leaves it; {fix}")
         self.inputs.append(marginal)
         return marginal
 
@@ -599,8 +602,15 @@ class _Reader:
         b_lo = b.support[0] if isinstance(b, Marginal) else float(b)
         both_fixed = not isinstance(a, Marginal) and not isinstance(b, Marginal)
         if a_hi > b_lo or (a_hi == b_lo and both_fixed):
-            key, value = (a_path, a) if blame == "a" else (b_path, b)
+            if blame == "a":
+                key, value, other, bound = a_path, a, b, f"as small as {_num(b_lo)}"
+            else:
+                key, value, other, bound = b_path, b, a, f"as large as {_num(a_hi)}"
             shown = value.describe() if isinstance(value, Marginal) else value
+            if isinstance(other, Marginal):
+                relation += f" (which is {other.describe()}, {bound})"
+            else:
+                relation += f" = {_num(float(other))}"
             self.fail(key, shown, relation)
 
     # ------------------------------------------------------------------ document
