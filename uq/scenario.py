@@ -7,6 +7,15 @@ Any numeric field holds either a ``float`` (a fixed value) or a marginal distrib
 (:class:`uq.distributions.Marginal`) whose ``name`` is the dotted key path of the field, e.g.
 ``legs.shelf_crossing.current_along_m_s``. ``Scenario.inputs`` lists every uncertain field in
 file order; that order is the column order of every sample array.
+
+:func:`load_scenario` and :func:`parse_scenario` are the only way in: they read TOML (data,
+never code), check every key, type and physical range, and raise :class:`ScenarioError` on the
+first problem with a one-line message ``<file>: <key.path> = <value>: expected <what>``.
+A distribution is checked by its support: a normal efficiency is rejected because it can
+leave (0, 1]. Choices made here: ``appendage_factor`` >= 1 (appendages only add drag);
+in-situ temperature in [-3, 40] degC; practical salinity in (0, 42]; ``samples`` must be a
+power of two for the Sobol' scheme and ``sensitivity_base_n`` always; rank correlations must
+form a positive-definite matrix both as given and as the normal-copula matrix 2 sin(pi r/6).
 """
 from __future__ import annotations
 
