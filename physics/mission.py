@@ -54,7 +54,7 @@ __all__ = [
     "fly_route",
 ]
 
-_BISECTION_STEPS = 40
+_BISECTION_STEPS = 30  # 1e-9 of a step
 
 
 class VehicleRates(NamedTuple):
@@ -215,8 +215,8 @@ def fly_route(
     fouling_time_constant: np.ndarray,
     max_duration: np.ndarray | float = np.inf,
     steps_per_leg: int = 8,
-    extension: float = 1.0,
-    extension_steps: int = 32,
+    extension: float = 0.5,
+    extension_steps: int = 16,
 ) -> TransitOutcome:
     """Fly every sample along the route and return its range, arrival and failure mode.
 
