@@ -248,6 +248,9 @@ def _fmt_num(x: float | None, digits: int = 1) -> str:
 
 
 def _fmt_money(x: float | None) -> str:
+    """Amount with thousands separators; 3 significant digits below 100."""
     if x is None:
         return "n/a"
-    return f"{x:,.0f}"
+    if abs(x) >= 100 or x == 0:
+        return f"{x:,.0f}"
+    return f"{x:.3g}"

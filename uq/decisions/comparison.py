@@ -140,8 +140,8 @@ def sweep_summary(
     d = np.asarray(duration_days, dtype=float)
     mg = np.asarray(margin, dtype=float)
     shapes = {"success": s.shape, "duration_days": d.shape, "arrived": a.shape, "margin": mg.shape}
-    if any(v != (sp.size, s.shape[-1] if s.ndim == 2 else -1) for v in shapes.values()) or s.ndim != 2:
-        raise ShapeMismatchError(f"expected all of shape (m={sp.size}, n); got {shapes}")
+    if s.ndim != 2 or s.shape[0] != sp.size or s.shape[1] == 0 or len(set(shapes.values())) != 1:
+        raise ShapeMismatchError(f"expected all of shape (m={sp.size} setpoints, n samples); got {shapes}")
     s, a = s.astype(bool), a.astype(bool)
     n = s.shape[1]
     rows = []

@@ -765,8 +765,8 @@ def rank_tests(
         As in :func:`evppi_regression`. A test that measures several inputs is valued
         by one joint regression on all of them.
     rng : None, int or numpy.random.Generator
-        Each test gets its own child stream (``Generator.spawn``), so a test's value does
-        not depend on its position in the list.
+        Each test gets its own child stream (``Generator.spawn``, in list order) for its
+        simulated test results and bootstrap.
 
     Returns
     -------
@@ -969,7 +969,7 @@ def pinned_input_probabilities(
     pct = f"{confidence * 100:g} %"
     u_txt = f" {unit}" if unit else ""
     parts = [
-        f"near its {r.quantile * 100:g}th percentile ({r.parameter_low:.4g}–{r.parameter_high:.4g}{u_txt}) "
+        f"near its {r.quantile * 100:g}th percentile ({r.parameter_low:.4g} to {r.parameter_high:.4g}{u_txt}) "
         f"P(success) is {_fmt_prob(r.probability_of_success)} ({pct} CI "
         f"{_fmt_prob_interval(r.probability_low, r.probability_high)}, {r.samples_in_bin:,} samples)"
         for r in rows

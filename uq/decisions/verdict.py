@@ -179,10 +179,17 @@ def go_no_go(
         else:
             extra = max(n_settle - samples, 0)
             side = "GO" if est > p_star else "NO-GO"
-            sentence = (
-                f"{base}; if the estimate holds, a {side} would be settled at about {n_settle:,} "
-                f"samples ({extra:,} more than the {samples:,} run)."
-            )
+            if extra > 0:
+                sentence = (
+                    f"{base}; if the estimate holds, a {side} would be settled at about {n_settle:,} "
+                    f"samples ({extra:,} more than the {samples:,} run)."
+                )
+            else:
+                sentence = (
+                    f"{base}; a binomial (Wilson) interval would already give {side} at {n_settle:,} "
+                    f"samples, so the supplied interval is wider than binomial sampling error alone: "
+                    f"check the estimator's interval before running more samples."
+                )
     return Verdict(
         verdict=verdict,
         probability_estimate=est,
