@@ -542,3 +542,16 @@ def test_sweep_summary_shape_error():
     with pytest.raises(ShapeMismatchError, match="setpoints"):
         sweep_summary([1.0, 2.0], np.ones((3, 5), bool), np.ones((3, 5)), np.ones((3, 5), bool), np.ones((3, 5)),
                       required_probability=0.9, confidence=0.95, setpoint_name="speed", unit="m/s")
+
+
+def test_bootstrap_fast_path_equals_plain_normal_equations(monkeypatch):
+    # the precomputed cross-product path and the plain X'WX path solve the same weighted
+    # normal equations with the same resamples: equal to rounding (1e-9 relative)
+    import uq.decisions.value_of_information as voi
+
+    nb, th1, th2 = _linear_decision(13)
+    args = dict(n_bootstrap=20, rng=5)
+    fast = evppi_regression(nb[:3000], np.column_stack([th1, th2])[:3000], **args)
+    monkeypatch.setattr(voi, "_CROSS_PRODUCT_LIMIT", 0)
+    plain = evppi_regression(nb[:3000], np.column_stack([th1, th2])[:3000], **args)
+    assert (fast.value_low, fast.value_high) == pytest.approx((plain.value_low, plain.value_high), rel=1e-9)

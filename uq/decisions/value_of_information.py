@@ -68,6 +68,7 @@ __all__ = [
 VOI_BASIS = "expected value of information"
 SOBOL_BASIS = "variance-based (no costs given): total Sobol index — not a monetary value"
 _DEFAULT_UNIT = "net-benefit units"
+_CROSS_PRODUCT_LIMIT = 20_000_000  # bootstrap cross-products kept in memory (<= 160 MB)
 
 
 # =========================================================================== inputs
@@ -222,6 +223,48 @@ def _fitted_incremental(x: np.ndarray, nb: np.ndarray) -> np.ndarray:
     return np.column_stack([np.zeros(nb.shape[0]), x @ coef])
 
 
+def _bootstrap_values(x: np.ndarray, nb: np.ndarray, n_bootstrap: int, gen: np.random.Generator) -> np.ndarray:
+    """Value of information on ``n_bootstrap`` row resamples (with replacement).
+
+    A resample is represented by its multinomial row counts w, so each replicate is a
+    weighted least-squares fit through the p x p normal equations (X' W X) c = X' W y on
+    unit-scaled columns, without copying the design. The cross-products x_a x_b and
+    x_a y are formed once, so a replicate costs one weighted column sum (``einsum``,
+    single-threaded: tall-skinny BLAS calls thrash when the cores are busy).
+    """
+    n, p = x.shape
+    scale = np.where(x.std(axis=0) > 0, x.std(axis=0), 1.0)
+    xs = x / scale
+    inc = nb[:, 1:] - nb[:, :1]
+    ia, ib = np.triu_indices(p)
+    n_cross = ia.size + p * inc.shape[1]
+    precompute = n * n_cross <= _CROSS_PRODUCT_LIMIT
+    if precompute:
+        cross = np.concatenate(
+            [xs[:, ia] * xs[:, ib], (xs[:, :, None] * inc[:, None, :]).reshape(n, -1)], axis=1
+        )
+    reps = np.empty(n_bootstrap)
+    for b in range(n_bootstrap):  # loop over replicates, not samples
+        w = np.bincount(gen.integers(0, n, n), minlength=n).astype(float)
+        if precompute:
+            sums = np.einsum("i,ij->j", w, cross)
+            gram = np.empty((p, p))
+            gram[ia, ib] = sums[: ia.size]
+            gram[ib, ia] = sums[: ia.size]
+            rhs = sums[ia.size :].reshape(p, -1)
+        else:
+            xw = xs * w[:, None]
+            gram, rhs = xw.T @ xs, xw.T @ inc
+        try:
+            coef = np.linalg.solve(gram, rhs)
+        except np.linalg.LinAlgError:
+            coef = np.linalg.lstsq(gram, rhs, rcond=None)[0]
+        f = np.einsum("ij,jk->ik", xs, coef)  # fitted NB_j - NB_0, j = 1..k-1
+        best = np.maximum(f[:, 0] if f.shape[1] == 1 else f.max(axis=1), 0.0)
+        reps[b] = float(np.einsum("i,i->", w, best)) / n - max(float(np.max(np.einsum("i,ij->j", w, f))) / n, 0.0)
+    return reps
+
+
 def _value_from_fitted(g: np.ndarray) -> float:
     return float(np.mean(np.max(g, axis=1)) - np.max(np.mean(g, axis=0)))
 
@@ -371,10 +414,7 @@ def _regression_voi(
         flip = float(np.mean(np.argmax(g, axis=1) != current))
         lo = hi = None
         if n_bootstrap:
-            reps = np.empty(n_bootstrap)
-            for b in range(n_bootstrap):  # loop over replicates, not samples
-                idx = gen.integers(0, n, n)
-                reps[b] = _value_from_fitted(_fitted_incremental(x[idx], nb[idx]))
+            reps = _bootstrap_values(x, nb, n_bootstrap, gen)
             alpha = 1.0 - confidence
             lo, hi = (float(v) for v in np.quantile(reps, [alpha / 2.0, 1.0 - alpha / 2.0]))
     value = max(raw, 0.0)
