@@ -1,0 +1,256 @@
+"""Shared private helpers of :mod:`uq.decisions`.
+
+Binomial (Wilson) intervals, distribution-free quantile intervals from binomial order
+statistics, Student-t intervals for means, rank-based normal scores, validation errors,
+JSON conversion of result dataclasses and the number formatting used in sentences.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from typing import Any
+
+import numpy as np
+from scipy import stats
+
+__all__ = [
+    "DecisionInputError",
+    "ShapeMismatchError",
+    "OutOfRangeError",
+    "UnknownCodeError",
+    "EmptySampleError",
+]
+
+
+# --------------------------------------------------------------------------- errors
+class DecisionInputError(ValueError):
+    """Base class: an input to a decision function is not what it must be."""
+
+
+class ShapeMismatchError(DecisionInputError):
+    """Arrays that must share a shape (or a sample axis) do not."""
+
+
+class OutOfRangeError(DecisionInputError):
+    """A number lies outside its admissible range (probability, confidence, cost ...)."""
+
+
+class UnknownCodeError(DecisionInputError):
+    """An integer code (failure mode, leg index) has no name, or a name is unknown."""
+
+
+class EmptySampleError(DecisionInputError):
+    """There are no samples to estimate from (e.g. no sample arrived)."""
+
+
+# --------------------------------------------------------------------------- validation
+def _check_confidence(confidence: float) -> float:
+    c = float(confidence)
+    if not 0.0 < c < 1.0:
+        raise OutOfRangeError(f"confidence={confidence!r}: expected a number strictly between 0 and 1")
+    return c
+
+
+def _check_probability_open(value: float, name: str) -> float:
+    v = float(value)
+    if not 0.0 < v < 1.0:
+        raise OutOfRangeError(f"{name}={value!r}: expected a probability strictly between 0 and 1")
+    return v
+
+
+def _as_bool_1d(x: Any, name: str) -> np.ndarray:
+    a = np.asarray(x)
+    if a.ndim != 1:
+        raise ShapeMismatchError(f"{name} has shape {a.shape}: expected a 1-D array of samples")
+    if a.dtype != bool:
+        if not np.all(np.isin(a, (0, 1))):
+            raise DecisionInputError(f"{name}: expected booleans (or 0/1), got other values")
+        a = a.astype(bool)
+    return a
+
+
+def _as_float_1d(x: Any, name: str) -> np.ndarray:
+    a = np.asarray(x, dtype=float)
+    if a.ndim != 1:
+        raise ShapeMismatchError(f"{name} has shape {a.shape}: expected a 1-D array of samples")
+    return a
+
+
+def _same_length(**arrays: np.ndarray) -> int:
+    lengths = {k: len(v) for k, v in arrays.items()}
+    if len(set(lengths.values())) != 1:
+        raise ShapeMismatchError(f"sample arrays differ in length: {lengths}")
+    return next(iter(lengths.values()))
+
+
+# --------------------------------------------------------------------------- intervals
+def _z(confidence: float) -> float:
+    """Two-sided standard-normal critical value for ``confidence``."""
+    return float(stats.norm.ppf(0.5 + 0.5 * confidence))
+
+
+def _wilson(k: Any, n: Any, confidence: float) -> tuple[np.ndarray, np.ndarray]:
+    """Wilson score interval for a binomial proportion (Wilson 1927, JASA 22:209).
+
+    TODO: switch to ``uq.estimators.proportion_interval`` once uq/estimators.py is merged.
+
+    Parameters
+    ----------
+    k : array_like
+        Number of successes [-]; may be non-integer (``p_hat * n``) for planning.
+    n : array_like
+        Number of trials [-]. Where ``n == 0`` the interval is the whole of [0, 1].
+    confidence : float
+        Two-sided confidence level [-].
+
+    Returns
+    -------
+    (low, high) : ndarrays of probabilities [-]
+    """
+    k = np.asarray(k, dtype=float)
+    n = np.asarray(n, dtype=float)
+    z = _z(confidence)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        p = k / n
+        denom = 1.0 + z * z / n
+        centre = (p + z * z / (2.0 * n)) / denom
+        half = z * np.sqrt(p * (1.0 - p) / n + z * z / (4.0 * n * n)) / denom
+        low = np.where(n > 0, np.clip(centre - half, 0.0, 1.0), 0.0)
+        high = np.where(n > 0, np.clip(centre + half, 0.0, 1.0), 1.0)
+    # the bound at k = 0 (k = n) is exactly 0 (1); remove rounding residue
+    low = np.where(k <= 0, 0.0, low)
+    high = np.where(k >= n, 1.0, high)
+    return low, high
+
+
+def _order_statistic_ranks(m: int, q: float, confidence: float) -> tuple[int, int, float]:
+    """1-based ranks (l, u) of a distribution-free two-sided interval for the q-quantile.
+
+    With B ~ Binomial(m, q), P(X_(l) <= xi_q < X_(u)) = F_B(u-1) - F_B(l-1) for a
+    continuous distribution. l - 1 is the largest j with F_B(j) <= alpha/2 and u - 1 the
+    smallest j with F_B(j) >= 1 - alpha/2, so each tail holds at most alpha/2 and the
+    coverage is at least ``confidence``. l = 0 (u = m + 1) means no finite bound exists.
+
+    Returns
+    -------
+    (l, u, coverage) : exact coverage of [X_(l), X_(u)] [-] (computed as if both existed)
+    """
+    alpha = 1.0 - confidence
+    dist = stats.binom(m, q)
+    # largest j with F(j) <= alpha/2 (F(-1) = 0)
+    j = int(dist.ppf(alpha / 2.0))
+    while j >= 0 and dist.cdf(j) > alpha / 2.0:
+        j -= 1
+    while j + 1 <= m and dist.cdf(j + 1) <= alpha / 2.0:
+        j += 1
+    lower_rank = j + 1
+    # smallest j with F(j) >= 1 - alpha/2
+    i = int(dist.ppf(1.0 - alpha / 2.0))
+    while i > 0 and dist.cdf(i - 1) >= 1.0 - alpha / 2.0:
+        i -= 1
+    while i < m and dist.cdf(i) < 1.0 - alpha / 2.0:
+        i += 1
+    upper_rank = i + 1
+    coverage = float(dist.cdf(upper_rank - 1) - (dist.cdf(lower_rank - 1) if lower_rank >= 1 else 0.0))
+    return lower_rank, upper_rank, coverage
+
+
+def _quantile_with_interval(
+    x_sorted: np.ndarray, q: float, confidence: float
+) -> tuple[float, float | None, float | None]:
+    """Sample quantile (linear interpolation) and its order-statistic interval.
+
+    A bound is ``None`` when the sample is too small to give it at this confidence.
+    """
+    m = x_sorted.size
+    estimate = float(np.quantile(x_sorted, q))
+    lower_rank, upper_rank, _ = _order_statistic_ranks(m, q, confidence)
+    low = float(x_sorted[lower_rank - 1]) if lower_rank >= 1 else None
+    high = float(x_sorted[upper_rank - 1]) if upper_rank <= m else None
+    return estimate, low, high
+
+
+def _mean_t_interval(x: np.ndarray, confidence: float) -> tuple[float, float | None, float | None]:
+    """Sample mean with a Student-t interval; bounds ``None`` for fewer than 2 values."""
+    m = x.size
+    mean = float(np.mean(x))
+    if m < 2:
+        return mean, None, None
+    se = float(np.std(x, ddof=1)) / math.sqrt(m)
+    t = float(stats.t.ppf(0.5 + 0.5 * confidence, m - 1))
+    return mean, mean - t * se, mean + t * se
+
+
+def _normal_scores(x: np.ndarray) -> np.ndarray:
+    """Rank-based normal scores Phi^-1((rank - 1/2) / n) along axis 0 (ties averaged)."""
+    n = x.shape[0]
+    ranks = stats.rankdata(x, method="average", axis=0)
+    return stats.norm.ppf((ranks - 0.5) / n)
+
+
+# --------------------------------------------------------------------------- conversion
+def _plain(value: Any) -> Any:
+    """Convert a result (dataclass, tuples, numpy scalars) to JSON-ready builtins.
+
+    Non-finite floats become ``None`` (JSON has no NaN/inf).
+    """
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: _plain(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_plain(v) for v in value.tolist()]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        v = float(value)
+        return v if math.isfinite(v) else None
+    return value
+
+
+class _ResultMixin:
+    """``to_dict`` for frozen result dataclasses; ``to_frame`` for tabular ones."""
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the result as JSON-ready builtins (floats, ints, str, lists, dicts)."""
+        return _plain(self)
+
+
+def _rows_frame(rows: tuple[Any, ...]):
+    import pandas as pd  # local import keeps `import uq.decisions` light
+
+    return pd.DataFrame([_plain(r) for r in rows])
+
+
+# --------------------------------------------------------------------------- formatting
+def _fmt_prob(p: float | None) -> str:
+    """Probability as a percentage with enough digits near 0 and 1, e.g. '96.2 %'."""
+    if p is None:
+        return "n/a"
+    tail = min(p, 1.0 - p)
+    digits = 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
+    return f"{100.0 * p:.{digits}f} %"
+
+
+def _fmt_prob_interval(low: float | None, high: float | None) -> str:
+    return f"{_fmt_prob(low).replace(' %', '')}–{_fmt_prob(high)}"
+
+
+def _fmt_num(x: float | None, digits: int = 1) -> str:
+    if x is None:
+        return "n/a"
+    return f"{x:,.{digits}f}"
+
+
+def _fmt_money(x: float | None) -> str:
+    """Amount with thousands separators; 3 significant digits below 100."""
+    if x is None:
+        return "n/a"
+    if abs(x) >= 100 or x == 0:
+        return f"{x:,.0f}"
+    return f"{x:.3g}"
