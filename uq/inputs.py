@@ -153,6 +153,23 @@ def _validate_rank_correlation(matrix: Any, dimension: int, names: tuple[str, ..
     return r
 
 
+def _lower_triangular_rows(g: np.ndarray, lower: np.ndarray) -> np.ndarray:
+    """``g @ lower.T`` for a lower-triangular ``lower``, as explicit column sums.
+
+    Elementwise numpy instead of BLAS: the result does not depend on BLAS threading or
+    kernel choice (streamed results stay bit-identical across workers), BLAS threads
+    do not oversubscribe the cores of a process pool, and zero entries (independent
+    groups) are skipped.
+    """
+    z = np.empty_like(g)
+    for j in range(lower.shape[0]):  # loops over inputs, not samples
+        acc = lower[j, j] * g[:, j]
+        for k in np.flatnonzero(lower[j, :j]):
+            acc += lower[j, k] * g[:, k]
+        z[:, j] = acc
+    return z
+
+
 @dataclass(frozen=True, eq=False)
 class InputModel:
     """Named marginals plus an optional Spearman rank correlation (Gaussian copula).
@@ -271,7 +288,7 @@ class InputModel:
             raise UnitPointsError("unit_points must lie in [0, 1] (and be finite)")
         u = np.clip(u, UNIT_CLIP, 1.0 - UNIT_CLIP)
         if self._cholesky is not None:
-            z = special.ndtri(u) @ self._cholesky.T
+            z = _lower_triangular_rows(special.ndtri(u), self._cholesky)
             u = np.clip(special.ndtr(z), UNIT_CLIP, 1.0 - UNIT_CLIP)
         out = np.empty_like(u)
         for j, marginal in enumerate(self.marginals):  # loop over inputs, not samples
