@@ -35,6 +35,7 @@ from __future__ import annotations
 import dataclasses
 import functools
 import inspect
+import threading
 import warnings
 from dataclasses import dataclass
 
@@ -229,16 +230,31 @@ class SampleDesign:
         return covering[start - offset : stop - offset]
 
     def _sobol_rows(self, start: int, stop: int) -> np.ndarray:
-        bits = None if self.n <= 2**30 else 64
-        engine = qmc.Sobol(
-            self.dimension, scramble=True, bits=bits, **{_QMC_RNG_KEYWORD: self._replicate_generator()}
-        )
-        if start:
-            engine.fast_forward(start)
+        # scipy's fast_forward costs O(skipped points), so a fresh engine per block would
+        # make streaming O(n^2 / block_size). Keep one engine per thread and design and
+        # move it forward only; a backward request starts a fresh engine. The points are
+        # the same either way (deterministic Gray-code sequence).
+        cursor = getattr(_SOBOL_CURSOR, "state", None)
+        if cursor is not None and cursor[0] == self and cursor[1].num_generated <= start:
+            engine = cursor[1]
+        else:
+            bits = None if self.n <= 2**30 else 64
+            engine = qmc.Sobol(
+                self.dimension, scramble=True, bits=bits,
+                **{_QMC_RNG_KEYWORD: self._replicate_generator()},
+            )
+            _SOBOL_CURSOR.state = (self, engine)
+        skip = start - engine.num_generated
+        if skip:
+            engine.fast_forward(skip)
         with warnings.catch_warnings():
             # The plan as a whole has n = 2^m points; a chunk need not be a power of two.
             warnings.filterwarnings("ignore", message="The balance properties of Sobol")
             return engine.random(stop - start)
+
+
+#: Per-thread Sobol' engine left where the last request stopped: (design, engine).
+_SOBOL_CURSOR = threading.local()
 
 
 @functools.lru_cache(maxsize=1)

@@ -1,6 +1,6 @@
 """Tests of uq.engine: chunk- and executor-invariant streaming, exact reducers."""
 
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 
 import numpy as np
 import pytest
@@ -75,6 +75,17 @@ def test_results_bit_identical_with_process_pool(design):
     with ProcessPoolExecutor(2) as pool:
         parallel = _as_bytes(stream(design, toy_model, _reducer(), chunk_blocks=3, executor=pool))
     assert serial == parallel
+
+
+def test_sobol_stream_bit_identical_with_thread_pool():
+    # Sobol' engines are kept per thread between blocks; threads must not share them.
+    design = scrambled_sobol(2**14, 3, seed=31, block_size=BLOCK)
+    serial = _as_bytes(stream(design, toy_model, _reducer()))
+    with ThreadPoolExecutor(3) as pool:
+        threaded = _as_bytes(stream(design, toy_model, _reducer(), chunk_blocks=2, executor=pool))
+    with ProcessPoolExecutor(2) as pool:
+        parallel = _as_bytes(stream(design, toy_model, _reducer(), chunk_blocks=5, executor=pool))
+    assert serial == threaded == parallel
 
 
 def test_reducers_agree_with_whole_array_numpy(design, reference):
