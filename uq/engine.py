@@ -30,7 +30,12 @@ from typing import Any, Callable, Iterable, NamedTuple, Protocol, runtime_checka
 
 import numpy as np
 
-from .estimators import ExceedanceCurve, exceedance_curve_from_counts
+from .estimators import (
+    ExceedanceCurve,
+    QuantileInterval,
+    exceedance_curve_from_counts,
+    quantile_interval_from_counts,
+)
 from .plans import SampleDesign
 
 __all__ = [
@@ -304,6 +309,12 @@ class HistogramCounts(NamedTuple):
         """``P(V >= r)`` at the bin edges, with pointwise and simultaneous bands."""
         return exceedance_curve_from_counts(
             self.edges, self.counts, self.n, above=self.above, confidence=confidence
+        )
+
+    def quantile_interval(self, q: float, *, confidence: float = 0.95) -> QuantileInterval:
+        """Approximate q-quantile with a conservative order-statistic interval (NaN excluded)."""
+        return quantile_interval_from_counts(
+            self.edges, self.counts, q, below=self.below, above=self.above, confidence=confidence
         )
 
 

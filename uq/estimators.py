@@ -45,6 +45,7 @@ __all__ = [
     "exceedance_curve_from_counts",
     "dkw_half_width",
     "quantile_interval",
+    "quantile_interval_from_counts",
     "quantile_ranks",
     "minimum_samples_for_quantile",
     "grow_until",
@@ -538,6 +539,76 @@ def quantile_interval(values, q: float, *, confidence: float = 0.95) -> Quantile
         lower_rank=lower_rank,
         upper_rank=upper_rank,
         coverage=coverage,
+    )
+
+
+def quantile_interval_from_counts(edges, counts, q: float, *, below: int = 0, above: int = 0,
+                                  confidence: float = 0.95) -> QuantileInterval:
+    """Approximate quantile and a conservative interval from streamed histogram counts.
+
+    Parameters
+    ----------
+    edges : (m + 1,) array_like
+        Increasing bin edges.
+    counts : (m,) array_like of int
+        ``counts[i]`` = number of samples with ``edges[i] <= V < edges[i+1]``.
+    q : float
+        Probability level in (0, 1).
+    below, above : int, default 0
+        Samples below ``edges[0]`` and at or above ``edges[-1]``; ``n = below +
+        sum(counts) + above``.
+    confidence : float, default 0.95
+
+    Returns
+    -------
+    QuantileInterval
+        ``estimate``: linear interpolation of rank ``q n`` inside its bin (error at most
+        one bin width). ``lower``/``upper``: the lower edge of the bin holding the
+        order statistic ``X_(l)`` and the upper edge of the bin holding ``X_(u)``, with
+        ``(l, u)`` from :func:`quantile_ranks`; the interval contains the exact
+        order-statistic interval, so its coverage is at least ``coverage``. A bound that
+        falls outside the edges is ``-inf`` / ``+inf``.
+    """
+    confidence = _check_confidence(confidence)
+    q = _check_q(q)
+    e = np.array(edges, dtype=float).ravel()
+    c = np.asarray(counts)
+    if c.ndim != 1 or c.size != e.size - 1 or np.any(np.diff(e) <= 0):
+        raise EstimatorError(
+            f"need strictly increasing edges and len(edges) - 1 = {e.size - 1} counts; "
+            f"got counts of shape {c.shape}"
+        )
+    if c.size and (not np.issubdtype(c.dtype, np.integer) or np.any(c < 0)) or below < 0 or above < 0:
+        raise EstimatorError("counts, below and above must be non-negative integers")
+    c = c.astype(np.int64)
+    cumulative = int(below) + np.cumsum(c)  # samples < edges[i + 1]
+    n = int(cumulative[-1]) + int(above)
+    if n == 0:
+        raise InsufficientSamplesError("quantile_interval_from_counts needs at least one sample")
+    lower_rank, upper_rank, coverage = quantile_ranks(n, q, confidence=confidence)
+
+    def bin_of(rank: float) -> int:
+        """-1: below edges[0]; m: at or above edges[-1]; else the bin index."""
+        if rank <= below:
+            return -1
+        return int(np.searchsorted(cumulative, rank, side="left"))
+
+    i_lo, i_hi = bin_of(lower_rank), bin_of(upper_rank)
+    lower = -np.inf if i_lo < 0 else (float(e[-1]) if i_lo >= c.size else float(e[i_lo]))
+    upper = float(e[0]) if i_hi < 0 else (np.inf if i_hi >= c.size else float(e[i_hi + 1]))
+    rank = q * n
+    i = bin_of(rank)
+    if i < 0:
+        estimate = -np.inf if rank < below else float(e[0])
+    elif i >= c.size:
+        estimate = np.inf
+    else:
+        before = int(below) if i == 0 else int(cumulative[i - 1])
+        estimate = float(e[i] + (rank - before) / c[i] * (e[i + 1] - e[i]))
+    return QuantileInterval(
+        estimate=estimate, lower=lower, upper=upper, confidence=confidence,
+        method="histogram order statistics (conservative, bin-rounded)", n=n,
+        q=q, lower_rank=lower_rank, upper_rank=upper_rank, coverage=coverage,
     )
 
 

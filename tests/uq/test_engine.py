@@ -105,6 +105,10 @@ def test_reducers_agree_with_whole_array_numpy(design, reference):
     curve = hist.exceedance_curve()
     direct = exceedance_curve(y, EDGES)
     np.testing.assert_array_equal(curve.count, direct.count)
+    # derived: the sample median lies between X_(l) and X_(u) (l <= n/2 <= u), and the
+    # histogram interval contains [X_(l), X_(u)]
+    median_ci = hist.quantile_interval(0.5)
+    assert median_ci.lower <= np.median(y) <= median_ci.upper
     # sums: only the summation order differs from numpy -> agreement to ~1e-12 relative
     s = result["sum"]
     assert s.n == design.n

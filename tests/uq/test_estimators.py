@@ -19,6 +19,7 @@ from uq.estimators import (
     minimum_samples_for_quantile,
     proportion_interval,
     quantile_interval,
+    quantile_interval_from_counts,
     quantile_ranks,
     replicate_interval,
     wilson_bounds,
@@ -267,6 +268,29 @@ def test_quantile_interval_refuses_too_few_samples():
     assert minimum_samples_for_quantile(0.5) == 6
     with pytest.raises(EstimatorError, match="q must be strictly between 0 and 1"):
         quantile_interval(np.arange(10.0), 1.0)
+
+
+@pytest.mark.parametrize("q", [0.01, 0.05, 0.5, 0.95])
+def test_quantile_from_counts_brackets_the_exact_interval(q):
+    # derived: binning only widens the order-statistic interval to bin edges, and the
+    # interpolated estimate lies within one bin width of the sample quantile.
+    v = np.random.default_rng(12).lognormal(0.0, 0.5, size=20_000)
+    edges = np.linspace(0.3, 3.0, 271)  # bin width 0.01; some samples fall outside
+    inside = (v >= edges[0]) & (v < edges[-1])
+    counts, _ = np.histogram(v[inside], bins=edges)
+    below, above = int((v < edges[0]).sum()), int((v >= edges[-1]).sum())
+    approx = quantile_interval_from_counts(edges, counts, q, below=below, above=above)
+    exact = quantile_interval(v, q)
+    assert (approx.lower_rank, approx.upper_rank) == (exact.lower_rank, exact.upper_rank)
+    assert approx.lower <= exact.lower and exact.upper <= approx.upper
+    assert approx.upper - approx.lower <= exact.upper - exact.lower + 2 * 0.01 + 1e-12
+    assert abs(approx.estimate - exact.estimate) <= 0.01 + 1e-12
+
+
+def test_quantile_from_counts_outside_edges_is_unbounded():
+    # derived: all 100 samples below the first edge -> the quantile lies left of edges[0]
+    got = quantile_interval_from_counts([1.0, 2.0], [0], 0.5, below=100)
+    assert got.lower == -np.inf and got.upper == 1.0
 
 
 # ---------------------------------------------------------------------- convergence
