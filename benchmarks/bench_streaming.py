@@ -1,0 +1,138 @@
+"""Streaming benchmark: wall time and peak memory of uq.engine.stream at 1e6 / 1e7 (/ 1e8).
+
+Run on demand (not a test):
+
+    python benchmarks/bench_streaming.py            # 1e6 and 1e7
+    python benchmarks/bench_streaming.py --big      # also 1e8 (a few minutes)
+    python benchmarks/bench_streaming.py --workers 2 --scheme sobol
+
+Each size runs in a fresh subprocess so its peak RSS (resource.getrusage ru_maxrss) is its
+own. A cheap 5-input toy model (not a transit model) is streamed through a CountReducer and
+a HistogramReducer; time should grow linearly in n (ratio ~10 per decade) and peak RSS
+should not grow with n.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import resource
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+from scipy import stats
+
+ROOT = Path(__file__).resolve().parents[1]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+from uq.engine import CountReducer, HistogramReducer, MultiReducer, stream  # noqa: E402
+from uq.inputs import InputModel, ScipyMarginal  # noqa: E402
+from uq.plans import SampleDesign  # noqa: E402
+
+EDGES = np.linspace(0.0, 20.0, 401)
+
+
+def toy_model(x):
+    """Cheap 5-input toy: a positive 'margin' and a threshold flag."""
+    margin = x[:, 0] * x[:, 1] / (1.0 + x[:, 2]) + np.abs(x[:, 3]) - 0.5 * x[:, 4]
+    return {"margin": margin, "short": margin < 1.0}
+
+
+def input_model():
+    return InputModel(
+        [
+            ScipyMarginal("a", stats.lognorm(s=0.3, scale=3.0)),
+            ScipyMarginal("b", stats.uniform(loc=1.0, scale=2.0)),
+            ScipyMarginal("c", stats.norm(loc=1.0, scale=0.1)),
+            ScipyMarginal("d", stats.norm(loc=0.0, scale=1.0)),
+            ScipyMarginal("e", stats.triang(c=0.5, loc=0.0, scale=2.0)),
+        ],
+        rank_correlation=np.array([
+            [1.0, 0.3, 0.0, 0.0, 0.0],
+            [0.3, 1.0, 0.0, 0.0, 0.0],
+            [0.0, 0.0, 1.0, 0.0, 0.0],
+            [0.0, 0.0, 0.0, 1.0, -0.2],
+            [0.0, 0.0, 0.0, -0.2, 1.0],
+        ]),
+    )
+
+
+def run_one(n: int, scheme: str, workers: int, chunk_blocks: int, repeat: int = 1) -> dict:
+    design = SampleDesign(scheme, n, 5, seed=20240601, block_size=2**16)
+    reducer = MultiReducer({"short": CountReducer("short"), "margin": HistogramReducer("margin", EDGES)})
+    rss_before = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    walls, cpus = [], []
+    for _ in range(repeat):
+        t0, c0 = time.perf_counter(), time.process_time()
+        if workers > 1:
+            from concurrent.futures import ProcessPoolExecutor
+
+            with ProcessPoolExecutor(workers) as pool:
+                result = stream(design, toy_model, reducer, input_model=input_model(),
+                                chunk_blocks=chunk_blocks, executor=pool)
+        else:
+            result = stream(design, toy_model, reducer, input_model=input_model(),
+                            chunk_blocks=chunk_blocks)
+        walls.append(time.perf_counter() - t0)
+        cpus.append(time.process_time() - c0)
+    elapsed, cpu = min(walls), min(cpus)  # best of `repeat`: the machine may be shared
+    usage_self = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    usage_children = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    curve = result["margin"].exceedance_curve()
+    return {
+        "n": n,
+        "scheme": scheme,
+        "workers": workers,
+        "seconds": elapsed,
+        "cpu_seconds": cpu,
+        "peak_rss_mib": usage_self / 1024.0,
+        "peak_rss_before_stream_mib": rss_before / 1024.0,
+        "peak_rss_worker_mib": usage_children / 1024.0,
+        "p_short": result["short"].fraction,
+        "p_margin_ge_5": float(curve.probability[np.searchsorted(EDGES, 5.0)]),
+    }
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--big", action="store_true", help="also run n = 1e8")
+    parser.add_argument("--scheme", default="monte-carlo", choices=["monte-carlo", "sobol"])
+    parser.add_argument("--workers", type=int, default=1)
+    parser.add_argument("--chunk-blocks", type=int, default=4)
+    parser.add_argument("--repeat", type=int, default=3, help="best of this many runs per size")
+    parser.add_argument("--single", type=int, help=argparse.SUPPRESS)
+    args = parser.parse_args(argv)
+
+    if args.single:
+        print(json.dumps(run_one(args.single, args.scheme, args.workers, args.chunk_blocks, args.repeat)))
+        return 0
+
+    sizes = [10**6, 10**7] + ([10**8] if args.big else [])
+    if args.scheme == "sobol":
+        sizes = [1 << (s.bit_length() - 1) for s in sizes]  # nearest power of two below
+    rows = []
+    for n in sizes:
+        out = subprocess.run(
+            [sys.executable, __file__, "--single", str(n), "--scheme", args.scheme,
+             "--workers", str(args.workers), "--chunk-blocks", str(args.chunk_blocks),
+             "--repeat", str(1 if n >= 10**8 else args.repeat)],
+            check=True, capture_output=True, text=True,
+        )
+        rows.append(json.loads(out.stdout.strip().splitlines()[-1]))
+    print(f"{'n':>12} {'wall s':>8} {'cpu s':>8} {'peak RSS MiB':>13} {'worker RSS MiB':>15} "
+          f"{'P(short)':>9}")
+    for r in rows:
+        print(f"{r['n']:>12} {r['seconds']:>8.2f} {r['cpu_seconds']:>8.2f} {r['peak_rss_mib']:>13.1f} "
+              f"{r['peak_rss_worker_mib']:>15.1f} {r['p_short']:>9.5f}")
+    for a, b in zip(rows[:-1], rows[1:]):
+        print(f"t({b['n']:.0e}) / t({a['n']:.0e}) = {b['seconds'] / a['seconds']:.2f} wall, "
+              f"{b['cpu_seconds'] / a['cpu_seconds']:.2f} cpu (n ratio {b['n'] / a['n']:.0f})")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
