@@ -572,7 +572,11 @@ def sobol_indices(
 
     The intervals are ``estimate ± h``, h = SALib's bootstrap half-width,
     i.e. a normal approximation centred on the full-sample estimate, not a
-    percentile interval.
+    percentile interval.  The bootstrap resamples rows as if they were
+    i.i.d., so on a scrambled Sobol' design it reports Monte Carlo-sized
+    uncertainty: typically several times wider than the actual (randomised
+    QMC) error, i.e. conservative.  For an RQMC error bar, repeat the design
+    with independent seeds and take the spread.
 
     A constant output is reported with status ``"zero variance"`` and all
     indices 0; an output with NaN or inf with status ``"non-finite"`` and all
