@@ -43,6 +43,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import warnings
 from collections.abc import Sequence
@@ -308,8 +309,12 @@ class PolynomialChaos:
         Samples used for fitting and for Q^2.
     degree_scan : tuple of DegreeTrial
         Every degree tried and its outcome.
-    seed : int or None
+    seed : int
         Entropy of the holdout split seed.
+    recurrence_coefficients : tuple of ndarray, each shape (2, degree + 1)
+        Per input, the three-term recurrence coefficients (alpha_k, beta_k)
+        that define its orthonormal family (together with `multi_indices`
+        and `coefficients` they fully define the surrogate).
     """
 
     names: tuple[str, ...]
@@ -327,7 +332,7 @@ class PolynomialChaos:
     n_holdout: int
     degree_scan: tuple = field(repr=False)
     seed: object = field(repr=False, default=None)
-    _recurrences: tuple = field(repr=False, default=())
+    recurrence_coefficients: tuple = field(repr=False, default=())
 
     @property
     def n_terms(self) -> int:
@@ -348,7 +353,7 @@ class PolynomialChaos:
         """Basis terms at `samples` (n, d) [physical units] -> (n, n_terms)."""
         x = _as_samples(samples, len(self.names), "samples")
         values = [
-            _orthonormal_values(x[:, j], self._recurrences[j], self.degree)
+            _orthonormal_values(x[:, j], self.recurrence_coefficients[j], self.degree)
             for j in range(x.shape[1])
         ]
         return _design_matrix(values, self.multi_indices)
@@ -563,11 +568,14 @@ def fit_polynomial_chaos(
         )
     max_degree = int(max_degree)
 
-    seed_seq = (
-        np.random.SeedSequence(int(seed.integers(2**63)))
-        if isinstance(seed, np.random.Generator)
-        else np.random.SeedSequence(seed)
-    )
+    if isinstance(seed, np.random.Generator):
+        seed_seq = np.random.SeedSequence(int(seed.integers(2**63)))
+    elif seed is None or (isinstance(seed, (int, np.integer)) and not isinstance(seed, bool) and seed >= 0):
+        seed_seq = np.random.SeedSequence(seed)
+    else:
+        raise PolynomialChaosInputError(
+            f"seed must be None, a non-negative integer or a numpy Generator, got {seed!r}"
+        )
 
     if holdout is not None:
         try:
@@ -618,7 +626,7 @@ def fit_polynomial_chaos(
             q2_holdout=None,
             quality=QUALITY_GOOD,
             degree_scan=(),
-            _recurrences=tuple(r[:, :1] for r in recurrences),
+            recurrence_coefficients=tuple(r[:, :1] for r in recurrences),
             **common,
         )
         return _finish(model, x_hold, y_hold)
@@ -662,7 +670,7 @@ def fit_polynomial_chaos(
         q2_holdout=None,
         quality=QUALITY_GOOD,
         degree_scan=tuple(trials),
-        _recurrences=tuple(r[:, : p + 1] for r in recurrences),
+        recurrence_coefficients=tuple(r[:, : p + 1] for r in recurrences),
         **common,
     )
     return _finish(model, x_hold, y_hold)
@@ -672,9 +680,7 @@ def _finish(model: PolynomialChaos, x_hold, y_hold) -> PolynomialChaos:
     """Attach holdout Q^2 and the quality flag."""
     q2 = None if x_hold is None else _q2(y_hold, model.predict(x_hold))
     poor = model.loo_error > model.loo_threshold or (q2 is not None and q2 < model.q2_threshold)
-    object.__setattr__(model, "q2_holdout", q2)
-    object.__setattr__(model, "quality", QUALITY_POOR if poor else QUALITY_GOOD)
-    return model
+    return dataclasses.replace(model, q2_holdout=q2, quality=QUALITY_POOR if poor else QUALITY_GOOD)
 
 
 # --------------------------------------------------------------------------
@@ -703,7 +709,7 @@ def chaospy_reference_indices(pce: PolynomialChaos) -> tuple[np.ndarray, np.ndar
     q = chaospy.variable(d) if d > 1 else [chaospy.variable(1)]
     families = []
     for j in range(d):
-        alpha, beta = pce._recurrences[j]
+        alpha, beta = pce.recurrence_coefficients[j]
         fam = [numpoly.polynomial(1.0 / math.sqrt(beta[0]))]
         if pce.degree >= 1:
             fam.append((q[j] - alpha[0]) * fam[0] / math.sqrt(beta[1]))

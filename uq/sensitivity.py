@@ -35,6 +35,7 @@ References
 from __future__ import annotations
 
 import math
+import numbers
 import zlib
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -249,7 +250,9 @@ class SaltelliDesign:
                 f"second_order={self.second_order}"
             )
         if self.unit_points.flags.writeable:
-            self.unit_points.flags.writeable = False
+            points = np.array(self.unit_points, dtype=float)  # never freeze the caller's array
+            points.flags.writeable = False
+            object.__setattr__(self, "unit_points", points)
 
     @property
     def n_factors(self) -> int:
@@ -322,7 +325,8 @@ def saltelli_design(
     members, labels = _check_groups(names_t, groups)
     entropy = _seed_entropy(seed)
     problem = _problem_dict(names_t, members, labels)
-    generator = np.random.default_rng(np.random.SeedSequence(entropy))
+    sequence = seed if isinstance(seed, np.random.SeedSequence) else np.random.SeedSequence(entropy)
+    generator = np.random.default_rng(sequence)
     points = _salib_sample.sample(
         problem,
         n,
@@ -587,7 +591,7 @@ def sobol_indices(
             f"design must be a SaltelliDesign (it carries N, D and the second-order "
             f"flag), got {type(design).__name__}"
         )
-    if not (isinstance(confidence, (float, int)) and 0.0 < float(confidence) < 1.0):
+    if isinstance(confidence, bool) or not (isinstance(confidence, numbers.Real) and 0.0 < float(confidence) < 1.0):
         raise SensitivityOptionError(f"confidence must be in (0, 1), got {confidence!r}")
     if isinstance(n_bootstrap, bool) or not isinstance(n_bootstrap, (int, np.integer)) or n_bootstrap < 2:
         raise SensitivityOptionError(f"n_bootstrap must be an integer >= 2, got {n_bootstrap!r}")

@@ -107,6 +107,9 @@ def test_ishigami_indices_from_coefficients():
     # LOO error is ~1e-6, i.e. the surrogate misses ~1e-6 of the variance.
     np.testing.assert_allclose(s.first, ISHIGAMI_FIRST, atol=1e-3)
     np.testing.assert_allclose(s.total, ISHIGAMI_TOTAL, atol=1e-3)
+    # Homma & Saltelli 1996: only x1-x3 interact, S13 = ST3 = 0.2437.
+    assert s.second[0, 2] == pytest.approx(0.2437, abs=1e-3)
+    assert abs(s.second[0, 1]) < 1e-3 and abs(s.second[1, 2]) < 1e-3
     # Ishigami & Homma 1990: mean a/2, V = 1/2 + a^2/8 + b pi^4/5 + b^2 pi^8/18.
     v = 0.5 + 49 / 8 + 0.1 * np.pi**4 / 5 + 0.01 * np.pi**8 / 18
     assert pce.mean == pytest.approx(3.5, abs=1e-3)
