@@ -326,7 +326,7 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
     pce = pce_indices = None
     space = "physical inputs"
     if settings.polynomial_chaos:
-        n_fit = min(propagation.samples, 4096)
+        n_fit = min(propagation.samples, 2048)
         y = propagation.outcomes["margin_Wh"][:n_fit]
         if input_model.is_independent:
             dists = [m.to_chaospy() for m in scenario.inputs]
@@ -340,7 +340,7 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", pce_module.PolynomialChaosQualityWarning)
             pce = pce_module.fit_polynomial_chaos(
-                dists, xs, y, max_degree=4 if d > 8 else 6, seed=int(pce_seed.generate_state(1)[0]),
+                dists, xs, y, max_degree=3 if d > 10 else 5, seed=int(pce_seed.generate_state(1)[0]),
                 names=names)
         pce_indices = pce.sobol_indices()
         if pce.quality != "good":
