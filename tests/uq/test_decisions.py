@@ -37,7 +37,7 @@ from uq.decisions import (
     sweep_summary,
 )
 from uq.decisions._common import _wilson
-from uq.estimators import quantile_ranks
+from uq.estimators import InsufficientSamplesError, minimum_samples_for_quantile, quantile_ranks
 
 
 def streams(seed, k):
@@ -98,6 +98,11 @@ def test_order_statistic_ranks_exact_binomial_coverage(m, q):
     # source: exact coverage P(l <= B <= u-1), B ~ Binomial(m, q), via scipy.stats.binom.
     # Each tail must hold <= alpha/2 and moving either rank inward must break that.
     alpha = 0.05
+    if m < minimum_samples_for_quantile(q, confidence=0.95):
+        # derived: no rank u <= m leaves <= alpha/2 above (0.95^50 = 0.077 > 0.025)
+        with pytest.raises(InsufficientSamplesError, match="too few"):
+            quantile_ranks(m, q, confidence=0.95)
+        return
     lower, upper, _ = quantile_ranks(m, q, confidence=0.95)
     b = stats.binom(m, q)
     below = b.cdf(lower - 1) if lower >= 1 else 0.0  # P(xi_q < X_(l))
