@@ -428,7 +428,7 @@ def _num(x: float) -> str:
 
 _INF = math.inf
 EFFICIENCY = _Range("an efficiency", 0.0, 1.0, True, False)
-POSITIVE_W = _Range("a power [W]", 0.0)
+NONNEG_W = _Range("a power [W]", 0.0, lo_open=False)  # 0 W: e.g. a sensor-free ferry leg
 POSITIVE_M = _Range("a length [m]", 0.0)
 POSITIVE_M2 = _Range("an area [m^2]", 0.0)
 POSITIVE_COEFF = _Range("a coefficient", 0.0)
@@ -710,7 +710,7 @@ class _Reader:
     def vehicle(self, table: Mapping[str, Any], kind: str) -> PropellerVehicle | GliderVehicle:
         common = {
             "name": lambda r, v, p: r.text(v, p, what="the vehicle name"),
-            "hotel_load_W": lambda r, v, p: r.number(v, p, POSITIVE_W),
+            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
         }
         propeller = {
             "propulsive_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
@@ -854,7 +854,7 @@ class _Reader:
             "ice_ceiling_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
             "seabed_m": lambda r, v, p: r.number(v, p, POSITIVE_DEPTH),
             "fouling_growth_factor": lambda r, v, p: r.number(v, p, GROWTH),
-            "hotel_load_W": lambda r, v, p: r.number(v, p, POSITIVE_W),
+            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
         }
         seen: dict[str, int] = {}
         legs = []
