@@ -55,6 +55,7 @@ __all__ = [
 ]
 
 _BISECTION_STEPS = 30  # 1e-9 of a step
+_GAUSS_NODES, _GAUSS_WEIGHTS = np.polynomial.legendre.leggauss(8)
 
 
 class VehicleRates(NamedTuple):
@@ -304,69 +305,105 @@ def fly_route(
             t = np.where(ok, t1, t)
             energy = np.where(ok, e1, energy)
             if bad.any():
-                _stop_inside_step(leg, bad, h, x0, t0, e0, k1t, k1e, code1, t_entry, clock_entry)
+                stage_t = (t0 + 0.5 * h * k1t, t0 + 0.5 * h * k2t, t0 + h * k3t, t1)
+                _stop_inside_step(leg, bad, h, x0, t0, e0, code1, stage_t,
+                                  (code2, code3, code4, code5), t_entry, clock_entry)
             _locate_crossings(leg, ok, h, x0, t0, e0, t1, e1, k1t, k1e, k5t, k5e)
             leg_energy[:, leg] += energy - e0  # zero for samples already stopped
             leg_distance[:, leg] += x - x0
             moving[:] = ok
             k1t, k1e, code1 = k5t, k5e, code5
 
-    def _stop_inside_step(leg, bad, h, x0, t0, e0, k1t, k1e, code1, t_entry, clock_entry):
+    def _stop_inside_step(leg, bad, h, x0, t0, e0, code1, stage_t, stage_code, t_entry,
+                          clock_entry):
+        """Place the stop of samples ``bad`` inside this step, with time as the variable.
+
+        Near a loss of headway dt/dx grows without bound, so the stop is found in time: the
+        latest time t* at which the vehicle can still go on (bisection between the step start
+        and the earliest stage found bad), then distance and energy are integrated in time,
+        dx/dt = u_g and dE/dt = P, which stay regular up to t* (Gauss-Legendre).
+        """
         nonlocal x, t, energy
         idx = np.flatnonzero(bad)
+        sub = _Subset(idx, leg, t_entry, clock_entry)
+        ta = t0[idx]
         at_start = code1[idx] != FailureMode.NONE
-        # bisection on the fraction s of the step, first-order path t = t0 + s h dt/dx
-        lo = np.zeros(idx.size)
-        hi = np.ones(idx.size)
-        sub = _Subset(idx)
+        bad_times = np.where(np.stack(stage_code)[:, idx] != FailureMode.NONE,
+                             np.stack(stage_t)[:, idx], np.inf)
+        lo = ta.copy()
+        hi = np.where(at_start, ta, bad_times.min(axis=0))
         for _ in range(_BISECTION_STEPS):
             mid = 0.5 * (lo + hi)
-            t_mid = t0[idx] + mid * h[idx] * k1t[idx]
-            c = clock_entry[idx] + growth[idx, leg] * (t_mid - t_entry[idx])
-            code = sub.code(leg, _fouling.fouling_state(c, onset[idx], tau[idx]))
-            fine = code == FailureMode.NONE
+            fine = sub.rates(mid)[2] == FailureMode.NONE
             lo = np.where(fine, mid, lo)
             hi = np.where(fine, hi, mid)
-        s = np.where(at_start, 0.0, lo)
-        t_mid = t0[idx] + s * h[idx] * k1t[idx]
-        code_hi = sub.code(leg, _fouling.fouling_state(
-            clock_entry[idx] + growth[idx, leg] * (t0[idx] + hi * h[idx] * k1t[idx] - t_entry[idx]),
-            onset[idx], tau[idx]))
-        mode = np.where(at_start, code1[idx], code_hi)
-        mode = np.where(mode == FailureMode.NONE, FailureMode.INFEASIBLE_GLIDE, mode)
-        new_x = x0[idx] + s * h[idx]
-        new_t = t_mid
-        new_e = e0[idx] + s * h[idx] * k1e[idx]
-        x[idx], t[idx], energy[idx] = new_x, new_t, new_e
+        t_stop = np.where(at_start, ta, lo)
+        mode = np.where(at_start, code1[idx], sub.rates(hi)[2])
+        # a bracket that lost its bad end (rates exactly at the threshold): keep the stage's
+        mode = np.where(mode == FailureMode.NONE,
+                        np.stack(stage_code)[:, idx].max(axis=0), mode)
+        dx, de = sub.integrate(ta, t_stop)
+        new_x = np.minimum(x0[idx] + dx, x0[idx] + h[idx])
+        new_e = e0[idx] + de
+        x[idx], t[idx], energy[idx] = new_x, t_stop, new_e
         stop_x[idx] = new_x
         stop_mode[idx] = mode
         stop_leg[idx] = leg
-        # the energy may have crossed the reserve before the stop
-        g0 = battery_drawable(t0[idx], idx) - e0[idx]
-        g1 = battery_drawable(new_t, idx) - new_e
+        # the duration limit may be passed before the stop
+        late = (ta <= t_limit[idx]) & (t_stop > t_limit[idx]) & np.isinf(time_x[idx])
+        if late.any():
+            j = np.flatnonzero(late)
+            dx_l, _ = sub.integrate(ta, np.where(late, t_limit[idx], ta))
+            time_x[idx[j]] = x0[idx[j]] + dx_l[j]
+            time_leg[idx[j]] = leg
+        # the energy may reach the reserve before the stop: bisection in time on g(t)
+        g0 = battery_drawable(ta, idx) - e0[idx]
+        g1 = battery_drawable(t_stop, idx) - new_e
         cross = (g0 > 0) & (g1 <= 0) & np.isnan(range_x[idx])
         if cross.any():
-            frac = g0[cross] / (g0[cross] - g1[cross])
+            lo_c, hi_c = ta.copy(), t_stop.copy()
+            for _ in range(_BISECTION_STEPS):
+                mid = 0.5 * (lo_c + hi_c)
+                _, de_mid = sub.integrate(ta, mid)
+                above = battery_drawable(mid, idx) - (e0[idx] + de_mid) > 0
+                lo_c = np.where(above, mid, lo_c)
+                hi_c = np.where(above, hi_c, mid)
+            dx_c, _ = sub.integrate(ta, 0.5 * (lo_c + hi_c))
             j = idx[cross]
-            range_x[j] = x0[j] + frac * (new_x[cross] - x0[j])
+            range_x[j] = x0[j] + dx_c[cross]
             range_leg[j] = leg
         no_range = np.isnan(range_x[idx])  # range ends at the stop; not an energy event
         range_x[idx[no_range]] = new_x[no_range]
 
     class _Subset:
-        """Rates of the few samples that stop inside a step (for the bisection)."""
+        """Rates in time of the few samples that stop inside a step."""
 
-        def __init__(self, idx):
-            self.idx = idx
-            self.rates = _take(rates, idx, n)
+        def __init__(self, idx, leg, t_entry, clock_entry):
+            self.idx, self.leg = idx, leg
+            self.rates_model = _take(rates, idx, n)
+            self.t_entry, self.clock_entry = t_entry[idx], clock_entry[idx]
 
-        def code(self, leg, phi_subset):
-            r = self.rates(leg, phi_subset)
-            track = _currents.ground_track(r.speed_through_water, c_along[self.idx, leg],
-                                           c_across[self.idx, leg])
+        def rates(self, t_now):
+            """(power [W], ground speed [m/s], stop code) at times ``t_now``."""
+            i, leg = self.idx, self.leg
+            c = self.clock_entry + growth[i, leg] * (t_now - self.t_entry)
+            r = self.rates_model(leg, _fouling.fouling_state(c, onset[i], tau[i]))
+            track = _currents.ground_track(r.speed_through_water, c_along[i, leg],
+                                           c_across[i, leg])
             code = np.where(r.state != FailureMode.NONE, r.state,
                             np.where(track.headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
-            return code.astype(np.int8)
+            return r.power, track.ground_speed, code.astype(np.int8)
+
+        def integrate(self, ta, tb):
+            """Distance and energy from ta to tb: 8-point Gauss-Legendre in time."""
+            half = 0.5 * (tb - ta)
+            dx = np.zeros_like(ta)
+            de = np.zeros_like(ta)
+            for node, weight in zip(_GAUSS_NODES, _GAUSS_WEIGHTS):
+                power, ground_speed, _ = self.rates(ta + half * (node + 1.0))
+                dx += weight * half * ground_speed
+                de += weight * half * power
+            return dx, de
 
     def battery_drawable(t_vals, idx=None):
         if idx is None:
