@@ -200,6 +200,7 @@ class TransitOutcome(NamedTuple):
     margin: np.ndarray  # drawable energy left at the route end, negative = shortfall [J]
     margin_fraction: np.ndarray  # margin / usable energy at arrival [-]
     energy_per_distance: np.ndarray  # (n, J) per leg [J/m]; NaN for legs never reached
+    route_energy_per_distance: np.ndarray  # energy drawn / distance flown on the route [J/m]
     route_length: np.ndarray  # [m]
 
 
@@ -452,6 +453,9 @@ def fly_route(
 
     with np.errstate(invalid="ignore", divide="ignore"):
         per_distance = np.where(leg_distance > 0, leg_energy / leg_distance, np.nan)
+    flown = leg_distance.sum(axis=1)
+    route_per_distance = np.divide(leg_energy.sum(axis=1), flown, out=np.zeros(n),
+                                   where=flown > 0)
 
     return TransitOutcome(
         range=range_x,
@@ -464,6 +468,7 @@ def fly_route(
         margin=margin,
         margin_fraction=margin_fraction,
         energy_per_distance=per_distance,
+        route_energy_per_distance=route_per_distance,
         route_length=route,
     )
 

@@ -107,6 +107,7 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
         confidence=scenario.decision.confidence,
         workers=int(overrides.get("workers") or 1),
         chunk_blocks=int(overrides.get("chunk_blocks") or 1),
+        block_size=int(overrides.get("block_size") or 2**13),
         polynomial_chaos=overrides.get("polynomial_chaos", True),
     )
 
@@ -406,7 +407,7 @@ def package_versions() -> dict[str, str]:
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
-           polynomial_chaos: bool = True,
+           block_size: int = 2**13, polynomial_chaos: bool = True,
            progress: Callable[[str, int, int], None] | None = None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
 
@@ -414,7 +415,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     """
     settings = _settings(scenario, samples=samples, seed=seed, scheme=scheme,
                          replicates=replicates, sensitivity_base_n=sensitivity_base_n,
-                         workers=workers, chunk_blocks=chunk_blocks,
+                         workers=workers, chunk_blocks=chunk_blocks, block_size=block_size,
                          polynomial_chaos=polynomial_chaos)
     stage_seeds = np.random.SeedSequence(settings.seed).spawn(3)
     timings: dict[str, float] = {}

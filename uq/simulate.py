@@ -168,7 +168,8 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, n
 
     Keys: ``range_km``, ``range_censored``, ``arrived``, ``success``, ``failure_mode``,
     ``failing_leg``, ``duration_days``, ``margin_Wh``, ``margin_fraction``,
-    ``energy_per_km_Wh`` (n, J) and ``route_km``.
+    ``energy_per_km_Wh`` (n, J), ``route_energy_per_km_Wh`` (energy drawn over distance
+    flown on the route) and ``route_km``.
     """
     out = _transit(scenario, x, **options)
     return {
@@ -182,6 +183,7 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, n
         "margin_Wh": out.margin / _J_PER_WH,
         "margin_fraction": out.margin_fraction,
         "energy_per_km_Wh": out.energy_per_distance * (1000.0 / _J_PER_WH),
+        "route_energy_per_km_Wh": out.route_energy_per_distance * (1000.0 / _J_PER_WH),
         "route_km": out.route_length / 1000.0,
     }
 

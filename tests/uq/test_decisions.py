@@ -479,12 +479,17 @@ def test_sweep_summary_robust_choice_and_tie_break():
     means = np.array([40.0, 34.0, 30.0, 27.0])
     duration = means[:, None] + 2.0 * rs[1].normal(size=(m, n))
     arrived = np.ones((m, n), dtype=bool)
-    margin = rs[2].normal(100.0, 20.0, size=(m, n))
+    margin = rs[2].normal(100.0, 20.0, size=(1, n)) + np.zeros((m, 1))  # equal margins
     res = sweep_summary(
         [0.8, 1.0, 1.2, 1.4], success, duration, arrived, margin, required_probability=0.95,
         confidence=0.95, setpoint_name="cruise speed", unit="m/s", deterministic_optimum=1.4,
     )
-    assert res.robust_setpoint == 1.2  # tie on the lower bound -> shorter P90
+    assert res.robust_setpoint == 1.2  # tie on the lower bound and margin -> shorter P90
+    bigger_margin_at_1p0 = margin + np.array([[0.0], [5.0], [0.0], [0.0]])
+    res2 = sweep_summary(
+        [0.8, 1.0, 1.2, 1.4], success, duration, arrived, bigger_margin_at_1p0,
+        required_probability=0.95, confidence=0.95, setpoint_name="cruise speed", unit="m/s")
+    assert res2.robust_setpoint == 1.0  # tie on the lower bound -> larger mean margin
     for row, mu, pi in zip(res.rows, means, p):
         ref = stats.binomtest(int(round(row.probability_of_success * n)), n).proportion_ci(method="wilson")
         assert row.probability_low == pytest.approx(ref.low, abs=1e-12)  # scipy reference

@@ -232,6 +232,10 @@ def _fmt_prob(p: float | None) -> str:
     """Probability as a percentage with enough digits near 0 and 1, e.g. '96.2 %'."""
     if p is None:
         return "n/a"
+    if p <= 0.0:
+        return "0 %"
+    if p >= 1.0:
+        return "100 %"
     tail = min(p, 1.0 - p)
     digits = 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
     return f"{100.0 * p:.{digits}f} %"

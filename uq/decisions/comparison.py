@@ -172,8 +172,12 @@ def sweep_summary(
                 mean_margin_high=mm_hi,
             )
         )
+    # ties on the lower bound (e.g. all 1.0 when uncertainty is small) go to the larger
+    # mean energy margin, then to the shorter duration quantile
     key = [
-        (-float(f"{r.probability_low:.12g}"), np.inf if r.duration_quantile_days is None else r.duration_quantile_days)
+        (-float(f"{r.probability_low:.12g}"),
+         -float(f"{r.mean_margin:.12g}") if r.mean_margin is not None else np.inf,
+         np.inf if r.duration_quantile_days is None else r.duration_quantile_days)
         for r in rows
     ]
     best = min(range(len(rows)), key=lambda i: key[i])
@@ -183,7 +187,7 @@ def sweep_summary(
     pq = f"P{dq * 100:g}"
     meets = "meets" if r.meets_requirement else "does NOT meet"
     sentence = (
-        f"Set {setpoint_name} to {r.setpoint:g}{u} (robust choice: highest lower bound of P(success)): "
+        f"Set {setpoint_name} to {r.setpoint:g}{u} (robust choice: highest lower bound of P(success), ties to the larger mean margin): "
         f"P(success) {_fmt_prob(r.probability_of_success)} ({pct} CI "
         f"{_fmt_prob_interval(r.probability_low, r.probability_high)}), which {meets} the required "
         f"{_fmt_prob(p_star)}; {pq} duration {_fmt_num(r.duration_quantile_days)} d."
