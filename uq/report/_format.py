@@ -74,15 +74,27 @@ class Formatter:
         text = f"{v:.{figures}g}"
         return f"{text} {unit}".rstrip() if unit else text
 
+    @staticmethod
+    def _pct_digits(*values: float) -> int:
+        """1 decimal, 2 or 3 near 0 and 1 (exact 0 and 1 do not count)."""
+        tails = [min(v, 1.0 - v) for v in values if 0.0 < v < 1.0]
+        tail = min(tails) if tails else 1.0
+        return 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
+
+    @staticmethod
+    def _pct_text(v: float, digits: int) -> str:
+        if v in (0.0, 1.0):
+            return f"{100.0 * v:.0f}"
+        return f"{100.0 * v:.{digits}f}"
+
     def pct(self, p: Any, digits: int | None = None) -> str:
-        """Probability as a percentage; more digits near 0 and 1."""
+        """Probability as a percentage; more digits near 0 and 1 ("100 %" when exact)."""
         v = finite_or_none(p)
         if v is None:
             return self._dash()
         if digits is None:
-            tail = min(v, 1.0 - v)
-            digits = 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
-        return f"{100.0 * v:.{digits}f} %"
+            digits = self._pct_digits(v)
+        return f"{self._pct_text(v, digits)} %"
 
     def interval(self, low: Any, high: Any, digits: int = 2, unit: str = "") -> str:
         """``low–high unit``; a dash for a missing end."""
@@ -91,9 +103,9 @@ class Formatter:
         return f"{text} {unit}".rstrip() if unit else text
 
     def pct_interval(self, low: Any, high: Any) -> str:
+        """``low–high %`` with a common number of decimals."""
         lo, hi = finite_or_none(low), finite_or_none(high)
         if lo is None or hi is None:
             return self._dash()
-        tail = min(lo, 1.0 - lo, hi, 1.0 - hi)
-        digits = 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
-        return f"{100.0 * lo:.{digits}f}\u2013{100.0 * hi:.{digits}f} %"
+        digits = self._pct_digits(lo, hi)
+        return f"{self._pct_text(lo, digits)}\u2013{self._pct_text(hi, digits)} %"

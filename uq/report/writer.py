@@ -418,4 +418,5 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         total_time=sum(timings.values()),
         generated=datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
+        censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),
     )
