@@ -458,6 +458,13 @@ def main(argv: Sequence[str] | None = None) -> int:
             if args.quiet:
                 warnings.simplefilter("ignore")
             return args.func(args, console)
+    except BrokenPipeError:  # e.g. 'transit-risk check x.toml | head': stop quietly
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        except (OSError, ValueError):
+            pass
+        return _EXIT_INTERNAL
     except _Terminated:
         return _fail(console, args, "terminated (SIGTERM); no report was written",
                      _EXIT_SIGTERM, show_trace=False)
