@@ -21,6 +21,7 @@ from it, and the sampling engine makes every number independent of chunking and 
 """
 from __future__ import annotations
 
+import dataclasses
 import time
 import warnings
 from concurrent.futures import ProcessPoolExecutor
@@ -374,6 +375,8 @@ class Assessment:
     cautions: tuple[str, ...]
     timings_s: dict[str, float]
     versions: dict[str, str] = field(default_factory=dict)
+    #: (samples, P(success) half-width) of each propagation size tried
+    convergence: tuple[tuple[int, float], ...] = ()
 
     @property
     def p_success(self) -> estimators.IntervalEstimate:
@@ -408,9 +411,13 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
            block_size: int = 2**13, polynomial_chaos: bool = True,
+           target_half_width: float | None = None, max_samples: int = 2**20,
            progress: Callable[[str, int, int], None] | None = None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
 
+    With ``target_half_width`` the propagation doubles its sample size until the half-width
+    of the P(success) interval is at most that (e.g. 0.01) or ``max_samples`` is reached; the
+    sizes tried and their half-widths are in ``Assessment.convergence``.
     ``progress(stage, done, total)`` is called as the stages advance (for a progress bar).
     """
     settings = _settings(scenario, samples=samples, seed=seed, scheme=scheme,
@@ -424,10 +431,17 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     with warnings.catch_warnings(record=True) as caught, pool as executor:
         warnings.simplefilter("always")
         t0 = time.perf_counter()
-        prop = propagate(
-            scenario, settings, executor=executor,
-            progress=(lambda rows: progress("propagation", rows, settings.samples))
-            if progress else None)
+        convergence = []
+        while True:
+            prop = propagate(
+                scenario, settings, executor=executor,
+                progress=(lambda rows, _n=settings.samples: progress("propagation", rows, _n))
+                if progress else None)
+            convergence.append((prop.samples, prop.p_success.half_width))
+            if (target_half_width is None or prop.p_success.half_width <= target_half_width
+                    or settings.samples * 2 > max_samples):
+                break
+            settings = dataclasses.replace(settings, samples=settings.samples * 2)
         timings["propagation"] = time.perf_counter() - t0
         if progress:
             progress("sensitivity", 0, 1)
@@ -452,7 +466,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     return Assessment(
         scenario=scenario, settings=settings, propagation=prop, sensitivity=sens,
         nominal=base, cautions=tuple(cautions), timings_s=timings,
-        versions=package_versions(), **parts)
+        versions=package_versions(), convergence=tuple(convergence), **parts)
 
 
 def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,

@@ -107,7 +107,11 @@ class DistributionError(ValueError):
         self.value = value
         self.expected = expected
         self.suggestion = suggestion
-        text = f"{key} = {value!r}: expected {expected}"
+        try:
+            shown = repr(value)
+        except ValueError:  # an integer past Python's digit limit for int -> str (4300 digits)
+            shown = f"<{type(value).__name__} too large to show>"
+        text = f"{key} = {shown}: expected {expected}"
         if suggestion:
             text += f"; did you mean {suggestion!r}?"
         super().__init__(text)
@@ -395,7 +399,10 @@ def _check_params(kind: str, params: Mapping[str, Any]) -> dict[str, float]:
             raise DistributionError(key, value, "a number (true/false is not a number)")
         if not _is_number(value):
             raise DistributionError(key, value, "a plain number")
-        v = float(value)
+        try:
+            v = float(value)
+        except OverflowError:  # an integer beyond the float range (TOML integers are unbounded)
+            v = math.inf if value > 0 else -math.inf
         if not math.isfinite(v) and not (kind == "truncnormal" and key in ("low", "high") and not math.isnan(v)):
             raise DistributionError(key, value, "a finite number")
         out[key] = v
@@ -480,7 +487,9 @@ def _pert_alpha_beta(p: Mapping[str, float]) -> tuple[float, float]:
 def _lognormal_mu_sigma(p: Mapping[str, float]) -> tuple[float, float]:
     if "median" in p:
         return math.log(p["median"]), p["log_sd"]
-    sigma2 = math.log1p(p["cv"] ** 2)
+    cv = p["cv"]
+    # log(1 + cv^2) without squaring a large cv (cv**2 overflows past ~1.3e154)
+    sigma2 = math.log1p(cv * cv) if cv < 1.0 else 2.0 * math.log(cv) + math.log1p((1.0 / cv) ** 2)
     return math.log(p["mean"]) - 0.5 * sigma2, math.sqrt(sigma2)
 
 

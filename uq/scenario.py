@@ -249,6 +249,8 @@ class _Missing:
 MISSING: Any = _Missing()
 
 _MAX_VALUE_REPR = 80
+_LINE_BREAK_ESCAPES = {ord(c): c.encode("unicode_escape").decode("ascii")
+                       for c in "\n\r\x0b\x0c\x1c\x1d\x1e\x85\u2028\u2029"}
 
 
 class ScenarioError(ValueError):
@@ -287,15 +289,19 @@ class ScenarioError(ValueError):
             text = f"{self.file}: {self.key} = {_short_repr(self.value)}: expected {self.expected}"
         if self.suggestion is not None:
             text += f"; did you mean {self.suggestion!r}?"
-        # repr() already escapes newlines in values; this also covers file names and keys.
-        return text.replace("\r", "\\r").replace("\n", "\\n")
+        # repr() already escapes line breaks in values; this also covers file names, keys and
+        # distribution parameter names, for every boundary str.splitlines() knows.
+        return text.translate(_LINE_BREAK_ESCAPES)
 
     def __reduce__(self):
         return (ScenarioError, (self.file, self.key, self.value, self.expected, self.suggestion))
 
 
 def _short_repr(value: Any) -> str:
-    text = repr(value)
+    try:
+        text = repr(value)
+    except ValueError:  # an integer past Python's digit limit for int -> str (4300 digits)
+        text = f"<{type(value).__name__} too large to show>"
     if len(text) > _MAX_VALUE_REPR:
         text = text[: _MAX_VALUE_REPR - 3] + "..."
     return text
@@ -368,6 +374,8 @@ def parse_scenario(text_or_mapping: str | Mapping[str, Any], *, source: str = "<
             doc = tomllib.loads(text_or_mapping)
         except tomllib.TOMLDecodeError as exc:
             raise ScenarioError(source, None, expected=f"valid TOML ({exc})") from exc
+        except ValueError as exc:  # tomllib lets int()'s digit limit (4300 digits) through
+            raise ScenarioError(source, None, expected=f"TOML that Python can read ({exc})") from exc
     elif isinstance(text_or_mapping, Mapping):
         doc = text_or_mapping
     else:
@@ -420,7 +428,7 @@ def _num(x: float) -> str:
 
 _INF = math.inf
 EFFICIENCY = _Range("an efficiency", 0.0, 1.0, True, False)
-POSITIVE_W = _Range("a power [W]", 0.0)
+NONNEG_W = _Range("a power [W]", 0.0, lo_open=False)  # 0 W: e.g. a sensor-free ferry leg
 POSITIVE_M = _Range("a length [m]", 0.0)
 POSITIVE_M2 = _Range("an area [m^2]", 0.0)
 POSITIVE_COEFF = _Range("a coefficient", 0.0)
@@ -542,7 +550,11 @@ class _Reader:
             self.fail(path, value, f"a number{alt}, not a string ({rng.what} in {rng.interval()})")
         if not _is_number(value):
             self.fail(path, value, f"a number{alt} ({rng.what} in {rng.interval()})")
-        if math.isnan(float(value)):
+        try:
+            x = float(value)
+        except OverflowError:  # an integer beyond the float range (TOML integers are unbounded)
+            self.fail(path, value, f"a finite number ({rng.what} in {rng.interval()})")
+        if math.isnan(x):
             self.fail(path, value, f"a number, not nan ({rng.what} in {rng.interval()})")
 
     def distribution(self, value: Mapping[str, Any], path: str, rng: _Range) -> Marginal:
@@ -698,7 +710,7 @@ class _Reader:
     def vehicle(self, table: Mapping[str, Any], kind: str) -> PropellerVehicle | GliderVehicle:
         common = {
             "name": lambda r, v, p: r.text(v, p, what="the vehicle name"),
-            "hotel_load_W": lambda r, v, p: r.number(v, p, POSITIVE_W),
+            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
         }
         propeller = {
             "propulsive_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
@@ -842,7 +854,7 @@ class _Reader:
             "ice_ceiling_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
             "seabed_m": lambda r, v, p: r.number(v, p, POSITIVE_DEPTH),
             "fouling_growth_factor": lambda r, v, p: r.number(v, p, GROWTH),
-            "hotel_load_W": lambda r, v, p: r.number(v, p, POSITIVE_W),
+            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
         }
         seen: dict[str, int] = {}
         legs = []

@@ -86,3 +86,14 @@ def test_demo_assessment_is_finite_and_consistent(demo):
     ranking = a.sensitivity_ranking()
     assert {r["input"] for r in ranking} == set(scenario.input_names)
     assert a.tests is not None and len(a.tests.rows) == len(scenario.decision.tests)
+
+
+def test_auto_convergence_grows_the_sample_until_the_half_width_target():
+    scenario = _battery_only_uncertain()
+    a = assess(scenario, samples=64, replicates=4, sensitivity_base_n=0,
+               target_half_width=0.01, max_samples=2**16)
+    sizes = [n for n, _ in a.convergence]
+    assert sizes == [64 * 2**k for k in range(len(sizes))]  # doubling from the start
+    assert a.convergence[-1][1] <= 0.01 or sizes[-1] * 2 > 2**16
+    assert all(hw > 0.01 for _, hw in a.convergence[:-1])  # stopped at the first success
+    assert a.p_success.n == sizes[-1]

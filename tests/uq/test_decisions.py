@@ -36,7 +36,8 @@ from uq.decisions import (
     ship_time_contingency,
     sweep_summary,
 )
-from uq.decisions._common import _order_statistic_ranks, _wilson
+from uq.decisions._common import _wilson
+from uq.estimators import InsufficientSamplesError, minimum_samples_for_quantile, quantile_ranks
 
 
 def streams(seed, k):
@@ -85,7 +86,7 @@ def test_order_statistic_ranks_median_n20():
     # from memory: standard nonparametric table (e.g. Conover, Practical Nonparametric
     # Statistics): the 95 % interval for the median of n = 20 is [X(6), X(15)], coverage
     # 1 - 2 * F_Bin(20, 1/2)(5) = 0.9586 (recomputed here with scipy.stats.binom)
-    lower, upper, coverage = _order_statistic_ranks(20, 0.5, 0.95)
+    lower, upper, coverage = quantile_ranks(20, 0.5, confidence=0.95)
     assert (lower, upper) == (6, 15)
     assert coverage == pytest.approx(1 - 2 * stats.binom.cdf(5, 20, 0.5), abs=1e-12)
     assert coverage == pytest.approx(0.9586, abs=1e-4)
@@ -97,7 +98,12 @@ def test_order_statistic_ranks_exact_binomial_coverage(m, q):
     # source: exact coverage P(l <= B <= u-1), B ~ Binomial(m, q), via scipy.stats.binom.
     # Each tail must hold <= alpha/2 and moving either rank inward must break that.
     alpha = 0.05
-    lower, upper, _ = _order_statistic_ranks(m, q, 0.95)
+    if m < minimum_samples_for_quantile(q, confidence=0.95):
+        # derived: no rank u <= m leaves <= alpha/2 above (0.95^50 = 0.077 > 0.025)
+        with pytest.raises(InsufficientSamplesError, match="too few"):
+            quantile_ranks(m, q, confidence=0.95)
+        return
+    lower, upper, _ = quantile_ranks(m, q, confidence=0.95)
     b = stats.binom(m, q)
     below = b.cdf(lower - 1) if lower >= 1 else 0.0  # P(xi_q < X_(l))
     above = 1 - b.cdf(upper - 1)  # P(xi_q >= X_(u))
@@ -112,7 +118,7 @@ def test_order_statistic_interval_empirical_coverage():
     # coverage of [X(l), X(u)] for the 0.9 quantile over 4000 seeded replicates of m = 120
     # must match the exact binomial coverage within 4 binomial standard errors (~0.013)
     m, q, reps = 120, 0.9, 4000
-    lower, upper, coverage = _order_statistic_ranks(m, q, 0.95)
+    lower, upper, coverage = quantile_ranks(m, q, confidence=0.95)
     (rng,) = streams(11, 1)
     x = np.sort(rng.gamma(2.0, size=(reps, m)), axis=1)
     truth = stats.gamma.ppf(q, 2.0)  # scipy.stats reference quantile

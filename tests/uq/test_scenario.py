@@ -463,7 +463,7 @@ BAD = [
      r"vehicle\.propulsive_efficiency = .*expected an efficiency in \(0, 1\], but Normal\(0\.38, 0\.04\) has support "
      r"\[-inf, inf\] which leaves it; use a bounded distribution, e\.g\. \{dist = \"truncnormal\".*high = 1\}.*pert"),
     ("normal-positive-field", PROPELLER, "hotel_load_W = 40.0", 'hotel_load_W = {dist = "normal", mean = 40.0, sd = 5.0}',
-     r"vehicle\.hotel_load_W = .*expected a power \[W\] in \(0, inf\), but Normal.*leaves it; "
+     r"vehicle\.hotel_load_W = .*expected a power \[W\] in \[0, inf\), but Normal.*leaves it; "
      r"use \{dist = \"lognormal\".*or \{dist = \"truncnormal\".*low = 0\}"),
     ("pert-exceeds-range", PROPELLER, "min = 0.30, mode = 0.38, max = 0.44", "min = 0.80, mode = 0.95, max = 1.10",
      r"vehicle\.propulsive_efficiency = .*but PERT\(0\.80, 0\.95, 1\.10\) has support \[0\.8, 1\.1\] which leaves it; "

@@ -12,6 +12,8 @@ import math
 from typing import Any
 
 import numpy as np
+
+from uq import estimators as _estimators
 from scipy import stats
 
 __all__ = [
@@ -91,84 +93,32 @@ def _z(confidence: float) -> float:
 
 
 def _wilson(k: Any, n: Any, confidence: float) -> tuple[np.ndarray, np.ndarray]:
-    """Wilson score interval for a binomial proportion (Wilson 1927, JASA 22:209).
+    """Wilson score interval (Wilson 1927, JASA 22:209) via :func:`uq.estimators.wilson_bounds`.
 
-    TODO: switch to ``uq.estimators.proportion_interval`` once uq/estimators.py is merged.
-
-    Parameters
-    ----------
-    k : array_like
-        Number of successes [-]; may be non-integer (``p_hat * n``) for planning.
-    n : array_like
-        Number of trials [-]. Where ``n == 0`` the interval is the whole of [0, 1].
-    confidence : float
-        Two-sided confidence level [-].
-
-    Returns
-    -------
-    (low, high) : ndarrays of probabilities [-]
+    ``k`` may be non-integer (``p_hat * n``) for planning; where ``n == 0`` the interval is
+    the whole of [0, 1].
     """
     k = np.asarray(k, dtype=float)
     n = np.asarray(n, dtype=float)
-    z = _z(confidence)
+    safe_n = np.where(n > 0, n, 1.0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        p = k / n
-        denom = 1.0 + z * z / n
-        centre = (p + z * z / (2.0 * n)) / denom
-        half = z * np.sqrt(p * (1.0 - p) / n + z * z / (4.0 * n * n)) / denom
-        low = np.where(n > 0, np.clip(centre - half, 0.0, 1.0), 0.0)
-        high = np.where(n > 0, np.clip(centre + half, 0.0, 1.0), 1.0)
-    # the bound at k = 0 (k = n) is exactly 0 (1); remove rounding residue
-    low = np.where(k <= 0, 0.0, low)
-    high = np.where(k >= n, 1.0, high)
-    return low, high
-
-
-def _order_statistic_ranks(m: int, q: float, confidence: float) -> tuple[int, int, float]:
-    """1-based ranks (l, u) of a distribution-free two-sided interval for the q-quantile.
-
-    With B ~ Binomial(m, q), P(X_(l) <= xi_q < X_(u)) = F_B(u-1) - F_B(l-1) for a
-    continuous distribution. l - 1 is the largest j with F_B(j) <= alpha/2 and u - 1 the
-    smallest j with F_B(j) >= 1 - alpha/2, so each tail holds at most alpha/2 and the
-    coverage is at least ``confidence``. l = 0 (u = m + 1) means no finite bound exists.
-
-    Returns
-    -------
-    (l, u, coverage) : exact coverage of [X_(l), X_(u)] [-] (computed as if both existed)
-    """
-    alpha = 1.0 - confidence
-    dist = stats.binom(m, q)
-    # largest j with F(j) <= alpha/2 (F(-1) = 0)
-    j = int(dist.ppf(alpha / 2.0))
-    while j >= 0 and dist.cdf(j) > alpha / 2.0:
-        j -= 1
-    while j + 1 <= m and dist.cdf(j + 1) <= alpha / 2.0:
-        j += 1
-    lower_rank = j + 1
-    # smallest j with F(j) >= 1 - alpha/2
-    i = int(dist.ppf(1.0 - alpha / 2.0))
-    while i > 0 and dist.cdf(i - 1) >= 1.0 - alpha / 2.0:
-        i -= 1
-    while i < m and dist.cdf(i) < 1.0 - alpha / 2.0:
-        i += 1
-    upper_rank = i + 1
-    coverage = float(dist.cdf(upper_rank - 1) - (dist.cdf(lower_rank - 1) if lower_rank >= 1 else 0.0))
-    return lower_rank, upper_rank, coverage
+        low, high = _estimators.wilson_bounds(np.where(n > 0, k, 0.0), safe_n,
+                                              confidence=confidence)
+    return np.where(n > 0, low, 0.0), np.where(n > 0, high, 1.0)
 
 
 def _quantile_with_interval(
     x_sorted: np.ndarray, q: float, confidence: float
 ) -> tuple[float, float | None, float | None]:
-    """Sample quantile (linear interpolation) and its order-statistic interval.
-
-    A bound is ``None`` when the sample is too small to give it at this confidence.
+    """Sample quantile and its distribution-free order-statistic interval
+    (:func:`uq.estimators.quantile_interval`); bounds are ``None`` when the sample is too
+    small to give them at this confidence.
     """
-    m = x_sorted.size
-    estimate = float(np.quantile(x_sorted, q))
-    lower_rank, upper_rank, _ = _order_statistic_ranks(m, q, confidence)
-    low = float(x_sorted[lower_rank - 1]) if lower_rank >= 1 else None
-    high = float(x_sorted[upper_rank - 1]) if upper_rank <= m else None
-    return estimate, low, high
+    try:
+        est = _estimators.quantile_interval(x_sorted, q, confidence=confidence)
+    except _estimators.InsufficientSamplesError:
+        return float(np.quantile(x_sorted, q)), None, None
+    return est.estimate, est.lower, est.upper
 
 
 def _mean_t_interval(x: np.ndarray, confidence: float) -> tuple[float, float | None, float | None]:
