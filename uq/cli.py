@@ -194,6 +194,34 @@ class _Console:
             self.tty = False
         self._bar = None
         self._stage = None
+        self._ticker = None
+
+    def _tick(self, stop) -> None:
+        """Refresh the open bar twice a second so elapsed time moves in long stages."""
+        while not stop.wait(0.5):
+            bar = self._bar
+            if bar is not None:
+                try:
+                    bar.refresh()
+                except Exception:  # a bar closed under our feet: nothing to show
+                    pass
+
+    def _start_ticker(self) -> None:
+        if self._ticker is None:
+            import threading
+
+            stop = threading.Event()
+            thread = threading.Thread(target=self._tick, args=(stop,), daemon=True)
+            thread.start()
+            self._ticker = (stop, thread)
+
+    def stop(self) -> None:
+        """Close the bar and stop the refresher thread."""
+        self.close_bar()
+        if self._ticker is not None:
+            self._ticker[0].set()
+            self._ticker[1].join(timeout=1.0)
+            self._ticker = None
 
     def message(self, text: str) -> None:
         """A one-line status message (not when quiet)."""
@@ -213,6 +241,7 @@ class _Console:
             if self.tty:
                 from tqdm import tqdm
 
+                self._start_ticker()
                 self._bar = tqdm(total=total, desc=label, file=self.stream, leave=True,
                                  unit="" if total <= 1 else " samples", dynamic_ncols=True,
                                  bar_format=None if total > 1 else "{desc}: {elapsed}")
@@ -478,7 +507,7 @@ def main(argv: Sequence[str] | None = None) -> int:
                      + ("" if args.debug else " (run with --debug for the traceback)"),
                      _EXIT_INTERNAL)
     finally:
-        console.close_bar()
+        console.stop()
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
 
