@@ -1,0 +1,111 @@
+"""Number formatting for the report and JSON-safe conversion for summary.json.
+
+No NaN or infinity ever reaches a reader: the HTML shows an em dash (with a note saying what
+it means) and the JSON shows ``null``.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+
+__all__ = ["DASH", "finite_or_none", "json_safe", "Formatter"]
+
+DASH = "\u2014"
+
+
+def finite_or_none(x: Any) -> float | None:
+    """``float(x)`` if it is a finite number, else None."""
+    if x is None or isinstance(x, bool):
+        return None
+    try:
+        value = float(x)
+    except (TypeError, ValueError):
+        return None
+    return value if math.isfinite(value) else None
+
+
+def json_safe(obj: Any) -> Any:
+    """Builtins only, with every non-finite float replaced by None (recursively)."""
+    if obj is None or isinstance(obj, (bool, str)):
+        return obj
+    if isinstance(obj, (np.bool_,)):
+        return bool(obj)
+    if isinstance(obj, (int, np.integer)):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        return finite_or_none(obj)
+    if isinstance(obj, Mapping):
+        return {str(k): json_safe(v) for k, v in obj.items()}
+    if isinstance(obj, np.ndarray):
+        return [json_safe(v) for v in obj.tolist()]
+    if isinstance(obj, (list, tuple, set, frozenset)):
+        return [json_safe(v) for v in obj]
+    return str(obj)
+
+
+class Formatter:
+    """Formats numbers for the page; remembers whether it had to print a dash."""
+
+    def __init__(self) -> None:
+        self.dashes = 0
+
+    def _dash(self) -> str:
+        self.dashes += 1
+        return DASH
+
+    def num(self, x: Any, digits: int = 2, unit: str = "") -> str:
+        """Fixed-point number with thousands separators, then its unit."""
+        v = finite_or_none(x)
+        if v is None:
+            return self._dash()
+        text = f"{v:,.{digits}f}"
+        if text.startswith("-") and float(text.replace(",", "")) == 0.0:
+            text = text[1:]
+        return f"{text} {unit}".rstrip() if unit else text
+
+    def sig(self, x: Any, figures: int = 3, unit: str = "") -> str:
+        """Number with ``figures`` significant figures (for small indices and ratios)."""
+        v = finite_or_none(x)
+        if v is None:
+            return self._dash()
+        text = f"{v:.{figures}g}"
+        return f"{text} {unit}".rstrip() if unit else text
+
+    @staticmethod
+    def _pct_digits(*values: float) -> int:
+        """1 decimal, 2 or 3 near 0 and 1 (exact 0 and 1 do not count)."""
+        tails = [min(v, 1.0 - v) for v in values if 0.0 < v < 1.0]
+        tail = min(tails) if tails else 1.0
+        return 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
+
+    @staticmethod
+    def _pct_text(v: float, digits: int) -> str:
+        if v in (0.0, 1.0):
+            return f"{100.0 * v:.0f}"
+        return f"{100.0 * v:.{digits}f}"
+
+    def pct(self, p: Any, digits: int | None = None) -> str:
+        """Probability as a percentage; more digits near 0 and 1 ("100 %" when exact)."""
+        v = finite_or_none(p)
+        if v is None:
+            return self._dash()
+        if digits is None:
+            digits = self._pct_digits(v)
+        return f"{self._pct_text(v, digits)} %"
+
+    def interval(self, low: Any, high: Any, digits: int = 2, unit: str = "") -> str:
+        """``low–high unit``; a dash for a missing end."""
+        lo, hi = self.num(low, digits), self.num(high, digits)
+        text = f"{lo}\u2013{hi}"
+        return f"{text} {unit}".rstrip() if unit else text
+
+    def pct_interval(self, low: Any, high: Any) -> str:
+        """``low–high %`` with a common number of decimals."""
+        lo, hi = finite_or_none(low), finite_or_none(high)
+        if lo is None or hi is None:
+            return self._dash()
+        digits = self._pct_digits(lo, hi)
+        return f"{self._pct_text(lo, digits)}\u2013{self._pct_text(hi, digits)} %"

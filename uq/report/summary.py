@@ -1,0 +1,143 @@
+"""The machine-readable summary of an assessment (``summary.json``).
+
+:func:`build_summary` returns JSON-ready builtins with no NaN or infinity (they become
+``null``); the keys are documented in the project README ("summary.json").
+"""
+from __future__ import annotations
+
+from typing import Any
+
+from uq.report._format import json_safe
+
+__all__ = ["SCHEMA_VERSION", "build_summary", "interval_dict", "nominal_dict"]
+
+SCHEMA_VERSION = 1
+
+
+def interval_dict(est) -> dict[str, Any]:
+    """An IntervalEstimate / QuantileInterval as {estimate, lower, upper, confidence, method, n[, q]}."""
+    out = {"estimate": est.estimate, "lower": est.lower, "upper": est.upper,
+           "confidence": est.confidence, "method": est.method, "n": getattr(est, "n", None)}
+    if hasattr(est, "q"):
+        out = {"q": est.q, **out}
+    return out
+
+
+def nominal_dict(nominal) -> dict[str, Any]:
+    """The deterministic (every input at its median) result in report units."""
+    row = nominal.outcome
+    return {
+        "range_km": row["range_km"],
+        "range_censored": bool(row["range_censored"]),
+        "route_km": nominal.route_km,
+        "duration_days": row["duration_days"],
+        "margin_Wh": row["margin_Wh"],
+        "margin_fraction": row["margin_fraction"],
+        "arrived": bool(row["arrived"]),
+        "success": bool(row["success"]),
+        "failure_mode": str(row["failure_mode"]),
+        "failing_leg": str(row["failing_leg"]) or None,
+        "energy_per_km_Wh": dict(nominal.energy_per_km_Wh),
+    }
+
+
+def _sweep_summary(sweep):
+    return getattr(sweep, "summary", sweep)
+
+
+def _comparison(comparison):
+    return getattr(comparison, "comparison", comparison)
+
+
+def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
+    """Headline figures, decisions and run record of ``assessment`` as JSON-ready builtins.
+
+    Parameters
+    ----------
+    assessment : uq.assess.Assessment
+    sweep : uq.studies.SweepResult or uq.decisions.SweepSummary, optional
+    comparison : uq.studies.ComparisonResult or uq.decisions.PairedComparison, optional
+
+    Returns
+    -------
+    dict
+        See the README section "summary.json" for every key; non-finite numbers are None.
+    """
+    a = assessment
+    sc = a.scenario
+    st = a.settings
+    prop = a.propagation
+    sens = a.sensitivity
+    pce = None
+    if sens is not None and sens.pce is not None:
+        pce = {"degree": sens.pce.degree, "loo_error": sens.pce.loo_error,
+               "q2_holdout": sens.pce.q2_holdout, "quality": sens.pce.quality,
+               "space": sens.pce_space, "output": "margin_Wh"}
+    indices = None
+    if sens is not None:
+        indices = {}
+        for output, res in sens.sobol.items():
+            indices[output] = {
+                "status": res.status,
+                "factors": [
+                    {"factor": f, "first": res.first[i], "first_low": res.first_interval.low[i],
+                     "first_high": res.first_interval.high[i], "total": res.total[i],
+                     "total_low": res.total_interval.low[i],
+                     "total_high": res.total_interval.high[i]}
+                    for i, f in enumerate(res.factors)
+                ],
+            }
+    tests = None
+    if a.tests is not None:
+        t = a.tests.to_dict()
+        tests = {"basis": t.get("ranking_basis"), "currency": t.get("currency"),
+                 "current_option": t.get("current_option"), "sentence": t.get("sentence"),
+                 "rows": t.get("rows", [])}
+    reached = int(prop.duration_quantiles[0].n) if prop.duration_quantiles else 0
+    out = {
+        "schema_version": SCHEMA_VERSION,
+        "scenario": {
+            "name": sc.name, "description": sc.description, "file": sc.source_path,
+            "sha256": sc.source_sha256, "vehicle_kind": sc.vehicle.kind,
+            "vehicle_name": sc.vehicle.name, "route_km": sc.route_length_km,
+            "legs": [leg.name for leg in sc.legs],
+        },
+        "verdict": a.verdict.verdict,
+        "verdict_sentence": a.verdict.sentence,
+        "required_probability": sc.decision.required_probability,
+        "confidence": st.confidence,
+        "p_success": interval_dict(prop.p_success),
+        "p_arrive": interval_dict(prop.p_arrive),
+        "samples_to_settle": a.verdict.samples_to_settle,
+        "samples": st.samples,
+        "seed": st.seed,
+        "scheme": st.scheme,
+        "replicates": st.replicates,
+        "sensitivity_base_n": st.sensitivity_base_n,
+        "sensitivity_runs": sens.runs if sens is not None else 0,
+        "range_km": {"route_km": prop.route_km,
+                     "quantiles": [interval_dict(q) for q in prop.range_quantiles]},
+        "duration_days": {"reached": reached,
+                          "quantiles": [interval_dict(q) for q in prop.duration_quantiles]},
+        "mean_margin_Wh": interval_dict(prop.mean_margin_Wh),
+        "contingency": a.contingency.to_dict() if a.contingency is not None else None,
+        "sensitivity_ranking": a.sensitivity_ranking(),
+        "sensitivity_indices": indices,
+        "surrogate": pce,
+        "test_ranking": tests,
+        "failure_modes": a.failures.to_dict(),
+        "pinned_inputs": {k: v.to_dict() for k, v in a.pinned.items()},
+        "nominal": nominal_dict(a.nominal),
+        "inputs": [
+            {"name": m.name, "distribution": m.describe(), "unit": m.unit,
+             "q05": m.quantile(0.05), "q50": m.quantile(0.5), "q95": m.quantile(0.95)}
+            for m in sc.inputs
+        ],
+        "sweep": _sweep_summary(sweep).to_dict() if sweep is not None else None,
+        "comparison": _comparison(comparison).to_dict() if comparison is not None else None,
+        "cautions": list(a.cautions),
+        "versions": dict(a.versions),
+        "timings_s": dict(a.timings_s),
+        "settings": st.to_dict(),
+    }
+    return json_safe(out)
