@@ -166,7 +166,8 @@ def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOut
 def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, np.ndarray]:
     """Outcomes of every sample row of ``x`` (columns = ``scenario.input_names``), report units.
 
-    Keys: ``range_km``, ``range_censored``, ``arrived``, ``success``, ``failure_mode``,
+    Keys: ``range_km``, ``range_censored``, ``arrived``, ``reaches_recovery`` (arrived before
+    the pack is truly empty, possibly on its reserve), ``success``, ``failure_mode``,
     ``failing_leg``, ``duration_days``, ``margin_Wh``, ``margin_fraction``,
     ``energy_per_km_Wh`` (n, J), ``route_energy_per_km_Wh`` (energy drawn over distance
     flown on the route) and ``route_km``.
@@ -176,6 +177,7 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, n
         "range_km": out.range / 1000.0,
         "range_censored": out.range_censored,
         "arrived": out.arrived,
+        "reaches_recovery": out.reaches_recovery,
         "success": out.success,
         "failure_mode": out.failure_mode,
         "failing_leg": out.failing_leg,

@@ -195,3 +195,64 @@ def test_range_beyond_route_is_followed_and_censored_at_the_cap():
     out = _fly(rates, _battery(2, 1e12), 10e3, extension=1.0)
     assert out.range_censored.all()
     np.testing.assert_allclose(out.range, 20e3)
+
+
+def _fouling_glider_speed(onset, tau, dd):
+    def u_of(t):
+        p = fouling.fouling_state(t, onset, tau)
+        s = glide.steady_glide(np.deg2rad(35.0), 1.5, 1027.0, 0.1, 0.08 * (1 + dd * p), 0.4,
+                               max_lift_coefficient=1.0)
+        c = buoyancy_engine.dive_cycle(s.horizontal_speed, s.vertical_speed, 1.5, 0.0, 1000.0,
+                                       0.27, 0.4, inflection_energy=20.0)
+        return float(c.mean_horizontal_speed)
+
+    return u_of
+
+
+def test_glider_fouling_into_a_cross_current_loses_headway_where_theory_says():
+    # derived: the glide stays feasible, but fouling slows the glider until its cycle-mean
+    # speed u(phi) equals the cross current; the stop distance is Int_0^t* u_g dt with
+    # u_g = sqrt(u^2 - c_x^2) (MODEL.md s6), by scipy quad; at the default 8 steps per leg
+    onset, tau, dd = 2 * DAY, 15 * DAY, 0.8
+    rates = _glider(1, 1, angle_deg=35.0, drag_increase=dd)
+    u_of = _fouling_glider_speed(onset, tau, dd)
+    clean, fouled = u_of(0.0), u_of(1e9)
+    c_x = fouled + 0.6 * (clean - fouled)
+    out = _fly(rates, _battery(1, 1e12), 3000e3, across=c_x, onset=onset, tau=tau)
+    assert out.failure_mode[0] == FailureMode.NO_HEADWAY
+    t_star = optimize.brentq(lambda t: u_of(t) - c_x, onset, 1e9)
+    x_star, _ = integrate.quad(lambda t: np.sqrt(max(u_of(t) ** 2 - c_x**2, 0.0)), 0.0, t_star,
+                               limit=200)
+    assert out.range[0] == pytest.approx(x_star, rel=1e-3)
+    assert out.duration[0] == pytest.approx(t_star, rel=1e-3)
+
+
+def test_time_limit_passed_before_a_stop_is_the_failure():
+    onset, tau, dd = 2 * DAY, 15 * DAY, 0.8
+    rates = _glider(1, 1, angle_deg=35.0, drag_increase=dd)
+    u_of = _fouling_glider_speed(onset, tau, dd)
+    c_x = u_of(1e9) + 0.6 * (u_of(0.0) - u_of(1e9))
+    free = _fly(rates, _battery(1, 1e12), 3000e3, across=c_x, onset=onset, tau=tau)
+    assert free.failure_mode[0] == FailureMode.NO_HEADWAY
+    limited = _fly(rates, _battery(1, 1e12), 3000e3, across=c_x, onset=onset, tau=tau,
+                   limit=0.9 * free.duration[0])
+    assert limited.failure_mode[0] == FailureMode.TIME_LIMIT
+
+
+def test_empty_budget_at_departure_is_an_energy_failure_at_range_zero():
+    rates = _propeller(2, 1)
+    battery = BatteryState(nominal_energy=np.array([0.0, 1e7]), cold_derating=np.ones(2),
+                           fade_rate=np.zeros(2), usable_fraction=np.ones(2),
+                           reserve_fraction=np.array([0.2, 1.0]))
+    out = _fly(rates, battery, 15e3)
+    assert list(out.failure_mode) == [FailureMode.ENERGY, FailureMode.ENERGY]
+    np.testing.assert_array_equal(out.range, [0.0, 0.0])
+    assert not out.success.any()
+
+
+def test_stopped_sample_reports_consistent_margin_and_fraction():
+    rates = _propeller(1, 2)
+    out = _fly(rates, _battery(1, 1e9), np.array([[10e3, 10e3]]),
+               across=np.array([[0.0, 1.6]]))
+    assert out.margin[0] == 0.0 and out.margin_fraction[0] == 0.0
+    assert not out.reaches_recovery[0]
