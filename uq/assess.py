@@ -53,7 +53,8 @@ __all__ = [
 ]
 
 #: per-sample outputs kept from the propagation (plus the input values themselves)
-OUTPUT_KEYS = ("range_km", "range_censored", "arrived", "success", "failure_mode",
+OUTPUT_KEYS = ("range_km", "range_censored", "arrived", "reaches_recovery", "success",
+               "failure_mode",
                "failing_leg", "duration_days", "margin_Wh", "margin_fraction")
 _RANGE_QUANTILES = (0.05, 0.1, 0.5, 0.9, 0.95)
 _DURATION_QUANTILES = (0.5, 0.9, 0.95)
@@ -163,14 +164,19 @@ class Propagation:
 def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
     k = sum(c for c, _ in counts)
     n = sum(m for _, m in counts)
-    if scheme == "sobol" and len(counts) >= 2:
-        fractions = [c / m for c, m in counts]
+    fractions = [c / m for c, m in counts]
+    if scheme == "sobol" and len(counts) >= 2 and len(set(fractions)) > 1:
         est = estimators.replicate_interval(fractions, confidence=confidence)
         # a proportion's interval never leaves [0, 1]
         return estimators.IntervalEstimate(
             estimate=est.estimate, lower=max(0.0, est.lower), upper=min(1.0, est.upper),
             confidence=est.confidence, method=est.method,
             n=n), tuple(fractions)
+    if scheme == "sobol" and len(counts) >= 2:
+        # every replicate gave the same fraction (e.g. all succeed): the replicate spread says
+        # nothing, so fall back to the exact binomial interval on the pooled counts
+        return estimators.proportion_interval(k, n, confidence=confidence,
+                                              method="clopper-pearson"), tuple(fractions)
     return estimators.proportion_interval(k, n, confidence=confidence), (k / n,)
 
 
@@ -202,7 +208,7 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
         reducer = MultiReducer({
             "rows": CollectReducer(OUTPUT_KEYS + ("inputs",), design.n),
             "success": CountReducer("success"),
-            "arrived": CountReducer("arrived"),
+            "arrived": CountReducer("reaches_recovery"),
         })
 
         def _progress(rows, _base=done):
@@ -226,9 +232,7 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
     cap = float(np.max(outcomes["range_km"]))
     grid = np.linspace(0.0, max(cap, route) * 1.0, 241)
     curve = estimators.exceedance_curve(outcomes["range_km"], grid, confidence=conf)
-    reached = outcomes["arrived"] & np.isin(outcomes["failure_mode"],
-                                            (FailureMode.NONE, FailureMode.TIME_LIMIT))
-    durations = outcomes["duration_days"][reached]
+    durations = outcomes["duration_days"][outcomes["reaches_recovery"]]
     return Propagation(
         designs=designs,
         outcomes=outcomes,
@@ -240,7 +244,11 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
         range_curve=curve,
         range_quantiles=_quantiles(outcomes["range_km"], _RANGE_QUANTILES, conf),
         duration_quantiles=_quantiles(durations, _DURATION_QUANTILES, conf),
-        mean_margin_Wh=estimators.mean_interval(outcomes["margin_Wh"], confidence=conf),
+        mean_margin_Wh=(
+            estimators.replicate_interval([p["margin_Wh"].mean() for p in pieces],
+                                          confidence=conf)
+            if settings.scheme == "sobol" and len(pieces) >= 2
+            else estimators.mean_interval(outcomes["margin_Wh"], confidence=conf)),
         route_km=route,
     )
 
@@ -424,7 +432,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                          replicates=replicates, sensitivity_base_n=sensitivity_base_n,
                          workers=workers, chunk_blocks=chunk_blocks, block_size=block_size,
                          polynomial_chaos=polynomial_chaos)
-    stage_seeds = np.random.SeedSequence(settings.seed).spawn(3)
+    # stage streams on their own spawn key, apart from the plans' (seed, replicate, block) keys
+    stage_seeds = np.random.SeedSequence(settings.seed, spawn_key=(2**31,)).spawn(3)
     timings: dict[str, float] = {}
     cautions: list[str] = []
     pool = ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext()
@@ -463,6 +472,18 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             cautions.append(text)
     if sens is not None:
         cautions.extend(sens.notes)
+    if settings.scheme == "sobol":
+        cautions.append(
+            "P(success) and the mean margin carry replicate intervals over independent "
+            "scramblings; the range-curve bands, quantile intervals and failure shares treat "
+            "the pooled scrambled points as independent samples, which is conservative for "
+            "randomised quasi-Monte Carlo.")
+    if target_half_width is not None and convergence[-1][1] > target_half_width:
+        cautions.append(
+            f"The P(success) half-width target {target_half_width:g} was not reached within "
+            f"{max_samples:,} samples (half-width {convergence[-1][1]:.4f} at "
+            f"{convergence[-1][0]:,}).")
+    cautions.extend(parts.pop("notes"))
     return Assessment(
         scenario=scenario, settings=settings, propagation=prop, sensitivity=sens,
         nominal=base, cautions=tuple(cautions), timings_s=timings,
@@ -482,8 +503,8 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
         out["failure_mode"], out["failing_leg"],
         mode_names={int(k): v for k, v in FAILURE_MODE_NAMES.items()},
         leg_names=[leg.name for leg in scenario.legs], confidence=conf)
-    reached = out["arrived"] & np.isin(out["failure_mode"],
-                                       (FailureMode.NONE, FailureMode.TIME_LIMIT))
+    # every vehicle that reaches the recovery point, on its reserve if need be, must be met
+    reached = out["reaches_recovery"]
     contingency = None
     if reached.sum() >= 2:
         contingency = decisions.ship_time_contingency(
@@ -499,21 +520,36 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
             success, prop.inputs[:, i], confidence=conf, parameter_name=name,
             unit=scenario.inputs[i].unit)
     tests = None
+    notes: list[str] = []
     catalogue = [decisions.TestCandidate(t.name, t.cost, tuple(t.inputs), t.residual_fraction)
                  for t in dec.tests]
     total = sens.total_index("failure") if sens is not None else None
     if catalogue:
-        has_values = None not in (dec.value_of_success, dec.cost_of_failure, dec.cost_of_no_go)
+        has_values = None not in (dec.value_of_success, dec.cost_of_failure)
         nb = None
         if has_values:
-            nb = decisions.go_no_go_net_benefit(
-                success, value_of_success=dec.value_of_success,
-                cost_of_failure=dec.cost_of_failure, cost_of_no_go=dec.cost_of_no_go)
+            # Value information for the rule the review applies - go iff P(success) >= p* -
+            # at the scenario's stakes: NB(go) - NB(no-go) = (V + C_f) (s - p*), so the
+            # break-even is p* itself and the "current choice" agrees with the verdict.
+            stakes = dec.value_of_success + dec.cost_of_failure
+            go = stakes * (success.astype(float) - dec.required_probability)
+            nb = np.column_stack([go, np.zeros_like(go)])
+            if dec.cost_of_no_go is not None:
+                implied = (dec.cost_of_failure - dec.cost_of_no_go) / stakes
+                if abs(implied - dec.required_probability) > 0.01:
+                    notes.append(
+                        f"The scenario's values and costs alone would put the break-even "
+                        f"P(success) at {implied:.1%}, not the required "
+                        f"{dec.required_probability:.1%}; the test ranking values information "
+                        f"for the review's rule (go iff P(success) >= "
+                        f"{dec.required_probability:.1%}) at stakes of {stakes:,.0f} "
+                        f"{dec.currency} (value of success + cost of failure).")
         if nb is not None or total is not None:
             tests = decisions.rank_tests(
                 catalogue, net_benefit=nb,
                 inputs={n: prop.inputs[:, i] for i, n in enumerate(prop.input_names)},
                 total_indices=total, currency=dec.currency, confidence=conf,
+                option_names=("go", "no-go") if nb is not None else None,
                 rng=np.random.default_rng(rank_seed))
     return {"verdict": verdict, "failures": failures, "contingency": contingency,
-            "pinned": pinned, "tests": tests}
+            "pinned": pinned, "tests": tests, "notes": notes}

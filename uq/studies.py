@@ -13,10 +13,11 @@ from typing import Sequence
 
 import numpy as np
 import pandas as pd
+from scipy import stats
 
 from physics import drag, propulsion, seawater
 from uq import decisions
-from uq.assess import input_model_of
+from uq.inputs import InputModel, ScipyMarginal
 from uq.plans import SampleDesign
 from uq.scenario import DragCoefficient, HullGeometry, Scenario
 from uq.simulate import ScenarioModel, nominal, nominal_inputs
@@ -76,17 +77,52 @@ def with_setpoint(scenario: Scenario, field: str, value: float) -> Scenario:
                                correlations=correlations)
 
 
+def _shared_copula(scenarios: Sequence[Scenario], union: Sequence[str]) -> InputModel | None:
+    """One Gaussian copula over the union of inputs, from every configuration's correlations.
+
+    Correlating per configuration (in each one's own input order) would give a shared input
+    different values in different configurations; one copula over the union keeps them equal.
+    """
+    pairs: dict[frozenset, float] = {}
+    for s in scenarios:
+        for c in s.correlations:
+            key = frozenset(c.inputs)
+            if key in pairs and pairs[key] != c.coefficient:
+                raise StudyError(
+                    f"configurations disagree on the rank correlation of {sorted(key)}: "
+                    f"{pairs[key]} vs {c.coefficient}; expected the same value in both")
+            pairs[key] = c.coefficient
+    if not pairs:
+        return None
+    index = {name: i for i, name in enumerate(union)}
+    matrix = np.eye(len(union))
+    for key, rho in pairs.items():
+        a, b = sorted(key)
+        matrix[index[a], index[b]] = matrix[index[b], index[a]] = rho
+    uniforms = [ScipyMarginal(name, stats.uniform()) for name in union]
+    return InputModel(uniforms, rank_correlation=matrix)
+
+
 def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, seed: int,
                                scheme: str = "sobol") -> list[dict[str, np.ndarray]]:
-    """Outcomes of every scenario on one shared plan (common random numbers by input name)."""
+    """Outcomes of every scenario on one shared plan (common random numbers by input name).
+
+    The plan's unit points are correlated once over the union of inputs; each configuration
+    then maps the columns of its own inputs through its own marginals, so a shared input has
+    the same probability level in every configuration (the same value when the marginals agree).
+    """
     union: list[str] = []
     for s in scenarios:
         union.extend(name for name in s.input_names if name not in union)
     u = shared_unit_points(union, samples, seed=seed, scheme=scheme)
+    copula = _shared_copula(scenarios, union)
+    if copula is not None:
+        u = copula.transform(u)  # correlated uniforms
     results = []
     for s in scenarios:
         cols = columns_for(s, union)
-        x = input_model_of(s).transform(u[:, cols]) if cols else np.zeros((samples, 0))
+        x = np.column_stack([m.ppf(u[:, c]) for m, c in zip(s.inputs, cols)]) if cols \
+            else np.zeros((samples, 0))
         results.append(ScenarioModel(s)(x))
     return results
 
