@@ -225,6 +225,7 @@ def fly_route(
     steps_per_leg: int = 8,
     extension: float = 0.5,
     extension_steps: int = 16,
+    min_ground_speed: float = 0.01,
 ) -> TransitOutcome:
     """Fly every sample along the route and return its range, arrival and failure mode.
 
@@ -250,6 +251,10 @@ def fly_route(
         How far past the route end (as a fraction of the route) to follow the range.
     extension_steps : int
         RK4 steps over that extension.
+    min_ground_speed : float
+        Ground speed [m/s] below which the vehicle is taken to have no headway (default
+        1 cm/s, under 1 km a day: a vehicle crawling slower is lost to the mission; a
+        modelling choice, common practice, no source). 0 gives the bare u_g <= 0 rule.
 
     Returns
     -------
@@ -289,8 +294,9 @@ def fly_route(
         phi = _fouling.fouling_state(c, onset, tau)
         r = rates(leg, phi)
         track = _currents.ground_track(r.speed_through_water, c_along[:, leg], c_across[:, leg])
+        headway = track.headway & (track.ground_speed > min_ground_speed)
         code = np.where(r.state != FailureMode.NONE, r.state,
-                        np.where(track.headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
+                        np.where(headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
         ug = np.where(code == FailureMode.NONE, track.ground_speed, 1.0)
         return 1.0 / ug, r.power / ug, code.astype(np.int8)
 
@@ -397,8 +403,9 @@ def fly_route(
             r = self.rates_model(leg, _fouling.fouling_state(c, onset[i], tau[i]))
             track = _currents.ground_track(r.speed_through_water, c_along[i, leg],
                                            c_across[i, leg])
+            headway = track.headway & (track.ground_speed > min_ground_speed)
             code = np.where(r.state != FailureMode.NONE, r.state,
-                            np.where(track.headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
+                            np.where(headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
             return r.power, track.ground_speed, code.astype(np.int8)
 
         def integrate(self, ta, tb):

@@ -75,7 +75,7 @@ class Settings:
     confidence: float
     workers: int = 1
     chunk_blocks: int = 1
-    block_size: int = 2**13
+    block_size: int = 2**15
     polynomial_chaos: bool = True
 
     @property
@@ -109,7 +109,7 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
         confidence=scenario.decision.confidence,
         workers=int(overrides.get("workers") or 1),
         chunk_blocks=int(overrides.get("chunk_blocks") or 1),
-        block_size=int(overrides.get("block_size") or 2**13),
+        block_size=int(overrides.get("block_size") or 2**15),
         polynomial_chaos=overrides.get("polynomial_chaos", True),
     )
 
@@ -418,7 +418,7 @@ def package_versions() -> dict[str, str]:
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
-           block_size: int = 2**13, polynomial_chaos: bool = True,
+           block_size: int = 2**15, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
            progress: Callable[[str, int, int], None] | None = None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).

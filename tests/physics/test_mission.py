@@ -218,7 +218,8 @@ def test_glider_fouling_into_a_cross_current_loses_headway_where_theory_says():
     u_of = _fouling_glider_speed(onset, tau, dd)
     clean, fouled = u_of(0.0), u_of(1e9)
     c_x = fouled + 0.6 * (clean - fouled)
-    out = _fly(rates, _battery(1, 1e12), 3000e3, across=c_x, onset=onset, tau=tau)
+    out = _fly(rates, _battery(1, 1e12), 3000e3, across=c_x, onset=onset, tau=tau,
+               min_ground_speed=0.0)  # the bare u_g -> 0 rule, to compare with quad
     assert out.failure_mode[0] == FailureMode.NO_HEADWAY
     t_star = optimize.brentq(lambda t: u_of(t) - c_x, onset, 1e9)
     x_star, _ = integrate.quad(lambda t: np.sqrt(max(u_of(t) ** 2 - c_x**2, 0.0)), 0.0, t_star,
@@ -256,3 +257,16 @@ def test_stopped_sample_reports_consistent_margin_and_fraction():
                across=np.array([[0.0, 1.6]]))
     assert out.margin[0] == 0.0 and out.margin_fraction[0] == 0.0
     assert not out.reaches_recovery[0]
+
+
+def test_a_crawl_below_the_minimum_ground_speed_is_no_headway():
+    # u_g = sqrt(1.5^2 - 1.4995^2) = 0.039 m/s with a -0.035 m/s head current: 4 mm/s over
+    # ground, 100 km in ~290 days - below the 1 cm/s floor, so no headway, not a crawl
+    rates = _propeller(1, 1)
+    out = _fly(rates, _battery(1, 1e12), 100e3, across=1.4995, along=-0.035)
+    assert out.failure_mode[0] == FailureMode.NO_HEADWAY
+    bare = fly_route(rates, _battery(1, 1e12), leg_length=np.array([[100e3]]),
+                     current_along=np.array([[-0.035]]), current_across=np.array([[1.4995]]),
+                     fouling_growth_factor=np.ones((1, 1)), fouling_onset=np.zeros(1),
+                     fouling_time_constant=np.full(1, np.inf), min_ground_speed=0.0)
+    assert bare.arrived[0] and bare.duration[0] > 200 * DAY  # the bare u_g > 0 rule crawls
