@@ -368,7 +368,7 @@ class _StudyReader:
             key = f"grid.{_quote(path)}"
             if not isinstance(values, list) or not values:
                 self.fail(key, values, "a non-empty list of values for the field")
-            self.check_path(path, key, base_doc, values[0])
+            self.check_path(path, key, base_doc, values)
             shown = [_short(v) for v in values]
             dup = next((s for i, s in enumerate(shown) if s in shown[:i]), None)
             if dup is not None:
@@ -960,6 +960,9 @@ def write_study(result: StudyResult, out_dir: str | os.PathLike[str], *,
     out.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
     try:
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes it private; the report is not
         result.to_frame().to_csv(tmp / "study.csv", index=False)
         (tmp / "study.json").write_text(
             json.dumps(_jsonable(result.to_dict()), indent=2, allow_nan=False) + "\n",
