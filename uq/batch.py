@@ -867,8 +867,11 @@ def _summarise(variant: Variant, parts: list[dict], scheme: str, scenario: Scena
             booking_quantile=dec.booking_quantile, day_rate=dec.ship_day_rate,
             currency=dec.currency, confidence=conf)
     margin = np.concatenate([q["ranking"]["margin_Wh"] for q in parts])
-    inputs = np.concatenate([q["ranking"]["inputs"].reshape(-1, len(scenario.inputs)) for q in parts])
-    ranking = _spearman_ranking(list(scenario.input_names), inputs, margin)
+    ranking: tuple = ()
+    if scenario.inputs and margin.size:
+        inputs = np.concatenate([q["ranking"]["inputs"].reshape(-1, len(scenario.inputs))
+                                 for q in parts])
+        ranking = _spearman_ranking(list(scenario.input_names), inputs, margin)
     return VariantResult(
         name=variant.name, overrides=variant.overrides, samples=n, p_success=p,
         p_success_replicates=fractions, verdict=verdict, contingency=contingency,
