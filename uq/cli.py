@@ -174,6 +174,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="vehicle kind of the starter (default propeller)")
     p.add_argument("--overwrite", action="store_true", help="replace an existing file")
     p.set_defaults(func=_cmd_starter)
+
+    sub.add_parser("study", add_help=False,
+                   help="batch study of many scenario variants on shared samples "
+                        "(see 'transit-risk study --help')")
     return parser
 
 
@@ -471,9 +475,14 @@ def _on_sigterm(signum, frame):
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit status (0 ok, 1 internal error, 2 user error,
     130 interrupted, 143 terminated)."""
+    arguments = list(sys.argv[1:] if argv is None else argv)
+    if arguments[:1] == ["study"]:  # batch studies have their own parser (uq.batch)
+        from uq.batch import study_main
+
+        return study_main(arguments[1:])
     parser = build_parser()
     try:
-        args = parser.parse_args(argv)
+        args = parser.parse_args(arguments)
     except SystemExit as exc:  # --help (0) or a usage error (2, already printed)
         return exc.code if isinstance(exc.code, int) else _EXIT_USER_ERROR
     console = _Console(quiet=args.quiet)

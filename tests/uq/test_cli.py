@@ -205,3 +205,11 @@ def test_interrupt_leaves_no_report_and_no_debris(sig, status, tmp_path):
     assert "Traceback" not in err
     assert not out.exists()
     assert not (tmp_path / "reports").exists() or list((tmp_path / "reports").iterdir()) == []
+
+
+def test_study_subcommand_reaches_the_batch_runner(tmp_path, capsys):
+    from uq.cli import main
+
+    code = main(["study", str(tmp_path / "missing-study.toml")])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 2 and len(err) == 1 and "study file" in err[0]
