@@ -353,6 +353,9 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
                 dists, xs, y, max_degree=3 if d > 10 else 5, seed=int(pce_seed.generate_state(1)[0]),
                 names=names)
         pce_indices = pce.sobol_indices()
+        if grouped:
+            pce_indices = _grouped_pce_indices(pce, pce_indices, names, group_list)
+            space = "independent unit variables; correlated inputs by group"
         if pce.quality != "good":
             notes.append(
                 f"The polynomial chaos surrogate of the energy margin is poor (LOO error "
@@ -364,6 +367,38 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
         runs=design.n_runs, pce=pce, pce_indices=pce_indices, pce_space=space,
         notes=tuple(notes),
     )
+
+
+def _grouped_pce_indices(pce, indices, names, groups):
+    """Sobol indices of correlated groups from the PCE coefficients (Sudret 2008).
+
+    In the independent unit space a correlated pair's split between its members depends on
+    the Cholesky order, so only the group's indices mean something: first = terms whose
+    variables all lie in the group, total = terms touching it. Each member carries its
+    group's values (the convention of the Saltelli group indices).
+    """
+    from uq.pce import PolynomialChaosIndices
+
+    alpha = np.asarray(pce.multi_indices) > 0
+    c2 = np.asarray(pce.coefficients, dtype=float) ** 2
+    nonconstant = alpha.any(axis=1)
+    variance = float(c2[nonconstant].sum())
+    column = {n: i for i, n in enumerate(names)}
+    first = np.asarray(indices.first, dtype=float).copy()
+    total = np.asarray(indices.total, dtype=float).copy()
+    for g in groups:
+        if len(g) < 2 or variance <= 0:
+            continue
+        cols = [column[m] for m in g]
+        inside = alpha[:, cols].any(axis=1)
+        only = nonconstant & ~np.delete(alpha, cols, axis=1).any(axis=1)
+        for m in cols:
+            first[m] = float(c2[only].sum() / variance)
+            total[m] = float(c2[inside].sum() / variance)
+    return PolynomialChaosIndices(names=tuple(names), first=first, total=total,
+                                  second=np.zeros((len(names), len(names))),
+                                  variance=indices.variance, status=indices.status,
+                                  quality=indices.quality)
 
 
 @dataclass(frozen=True)
@@ -523,7 +558,14 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
     notes: list[str] = []
     catalogue = [decisions.TestCandidate(t.name, t.cost, tuple(t.inputs), t.residual_fraction)
                  for t in dec.tests]
-    total = sens.total_index("failure") if sens is not None else None
+    total = None
+    if sens is not None:
+        # a correlated group's total index is shared out among its members, so that a test
+        # pinning the whole group is credited with it once (the fallback ranking adds them)
+        total = sens.total_index("failure")
+        for g in sens.groups or ():
+            for m in g:
+                total[m] = total[m] / len(g)
     if catalogue:
         has_values = None not in (dec.value_of_success, dec.cost_of_failure)
         nb = None

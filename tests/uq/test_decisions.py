@@ -182,7 +182,7 @@ def test_undecided_on_the_requirement_needs_better_inputs():
     # estimate on p* (and a case needing more than max_samples): no sample count settles it
     v = go_no_go(0.94, 0.96, 0.95, required_probability=0.95, confidence=0.95, samples=2000)
     assert v.verdict == "undecided" and v.samples_to_settle is None
-    assert "only less input uncertainty (better knowledge of the inputs), not more samples" in v.sentence
+    assert "no feasible sample size settles it; narrowing the inputs" in v.sentence
     v2 = go_no_go(0.94, 0.96, 0.9501, required_probability=0.95, confidence=0.95, samples=2000, max_samples=10**6)
     assert v2.samples_to_settle is None  # needs ~1.8e7 (derived as above)
 

@@ -21,7 +21,8 @@ __all__ = ["Verdict", "go_no_go", "samples_to_settle"]
 
 _SETTLE_TOLERANCE = 1e-12  # |p_hat - p*| below this: the estimate sits on the requirement
 _NO_SAMPLES_WILL_DO = (
-    "only less input uncertainty (better knowledge of the inputs), not more samples, will settle it"
+    "the estimate sits at the requirement, so no feasible sample size settles it; narrowing "
+    "the inputs (a test from the ranking) can"
 )
 
 
