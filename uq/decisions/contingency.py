@@ -192,12 +192,14 @@ def ship_time_contingency(
     pa_lo, pa_hi = _wilson(m, n, confidence)
 
     pct = f"{confidence * 100:g} %"
-    ci_b = f"{pct} CI {_fmt_num(booking.booking_days_low)}–{_fmt_num(booking.booking_days_high)} d"
+    dd = 2 if abs(b) < 10 else 1  # short missions: hundredths of a day (~15 min) matter
+    ci_b = (f"{pct} CI {_fmt_num(booking.booking_days_low, dd)}–"
+            f"{_fmt_num(booking.booking_days_high, dd)} d")
     verb = "contingency over" if booking.contingency_days >= 0 else "less than"
     cost_word = "costing" if booking.contingency_days >= 0 else "saving"
     sentence = (
-        f"Book {_fmt_num(b)} days of ship time ({bq * 100:g} % quantile of arrival time, {ci_b}): "
-        f"{_fmt_num(abs(booking.contingency_days))} days {verb} the {_fmt_num(nominal_days)}-day plan, "
+        f"Book {_fmt_num(b, dd)} days of ship time ({bq * 100:g} % quantile of arrival time, {ci_b}): "
+        f"{_fmt_num(abs(booking.contingency_days), dd)} days {verb} the {_fmt_num(nominal_days, dd)}-day plan, "
         f"{cost_word} {_fmt_money(abs(booking.contingency_cost))} {currency} at "
         f"{_fmt_money(day_rate)} {currency}/day. Expected idle ship time {_fmt_num(idle, 2)} d "
         f"({pct} CI {_fmt_num(idle_lo, 2)}–{_fmt_num(idle_hi, 2)} d), expected overrun "
