@@ -294,11 +294,9 @@ def fly_route(
         phi = _fouling.fouling_state(c, onset, tau)
         r = rates(leg, phi)
         track = _currents.ground_track(r.speed_through_water, c_along[:, leg], c_across[:, leg])
-        headway = track.headway & (track.ground_speed > min_ground_speed)
-        code = np.where(r.state != FailureMode.NONE, r.state,
-                        np.where(headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
+        code = _stop_code(r.state, track, min_ground_speed)
         ug = np.where(code == FailureMode.NONE, track.ground_speed, 1.0)
-        return 1.0 / ug, r.power / ug, code.astype(np.int8)
+        return 1.0 / ug, r.power / ug, code
 
     def one_leg(leg, h, n_steps, t_entry, clock_entry):
         nonlocal x, t, energy
@@ -403,10 +401,7 @@ def fly_route(
             r = self.rates_model(leg, _fouling.fouling_state(c, onset[i], tau[i]))
             track = _currents.ground_track(r.speed_through_water, c_along[i, leg],
                                            c_across[i, leg])
-            headway = track.headway & (track.ground_speed > min_ground_speed)
-            code = np.where(r.state != FailureMode.NONE, r.state,
-                            np.where(headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
-            return r.power, track.ground_speed, code.astype(np.int8)
+            return r.power, track.ground_speed, _stop_code(r.state, track, min_ground_speed)
 
         def integrate(self, ta, tb):
             """Distance and energy from ta to tb: 8-point Gauss-Legendre in time."""
@@ -531,6 +526,14 @@ def fly_route(
         route_energy_per_distance=route_per_distance,
         route_length=route,
     )
+
+
+def _stop_code(vehicle_state, track, min_ground_speed):
+    """The vehicle's own stop state, else NO_HEADWAY below the ground-speed floor (int8)."""
+    headway = track.headway & (track.ground_speed > min_ground_speed)
+    code = np.where(vehicle_state != FailureMode.NONE, vehicle_state,
+                    np.where(headway, FailureMode.NONE, FailureMode.NO_HEADWAY))
+    return code.astype(np.int8)
 
 
 def _take(model, idx, n):
