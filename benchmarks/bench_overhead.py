@@ -99,14 +99,23 @@ def measure(demo: str, scheme: str, log2n: int, repeat: int, block_size: int) ->
     return best
 
 
+def _default_block_size() -> int:
+    """The block size an assessment uses by default (read, not copied, so it cannot go stale)."""
+    import dataclasses
+
+    from uq.assess import Settings
+
+    return next(f.default for f in dataclasses.fields(Settings) if f.name == "block_size")
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--demo", choices=[*DEMOS, "both"], default="both")
     parser.add_argument("--scheme", choices=["sobol", "monte-carlo", "both"], default="both")
     parser.add_argument("--log2n", type=int, default=16, help="N = 2^m samples (default 16)")
     parser.add_argument("--repeat", type=int, default=3, help="best of this many rounds")
-    parser.add_argument("--block-size", type=int, default=2**13,
-                        help="engine block size (default 2^13, as in uq.assess.Settings)")
+    parser.add_argument("--block-size", type=int, default=_default_block_size(),
+                        help="engine block size (default: that of uq.assess.Settings)")
     args = parser.parse_args(argv)
 
     print(_machine.machine_report())
