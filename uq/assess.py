@@ -31,7 +31,7 @@ from typing import Any, Callable
 
 import numpy as np
 
-from physics.states import FAILURE_MODE_NAMES, FailureMode
+from physics.states import FAILURE_MODE_NAMES
 from uq import decisions, estimators
 from uq.engine import CollectReducer, CountReducer, MultiReducer, stream
 from uq.inputs import InputModel

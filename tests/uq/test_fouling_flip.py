@@ -11,7 +11,6 @@ Assumed values (common practice, no source): a small thruster at glider speeds (
 has an overall propulsive efficiency near 0.15; a buoyancy pump about 0.3; hotel load 0.5 W.
 """
 import numpy as np
-import pytest
 
 from physics import drag, glide, lift, propulsion
 
