@@ -70,14 +70,13 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from physics.states import FailureMode
 from uq import decisions, estimators
-from uq.assess import input_model_of, package_versions
+from uq.assess import package_versions
 from uq.engine import CollectReducer, CountReducer, MultiReducer, SumReducer, stream
 from uq.plans import SampleDesign
 from uq.scenario import MISSING, Scenario, ScenarioError, parse_scenario
 from uq.simulate import ScenarioModel, nominal
-from uq.studies import columns_for
+from uq.studies import columns_for, inputs_from_shared, shared_copula
 
 __all__ = [
     "StudyFileError",
@@ -536,27 +535,30 @@ def _check_settings(samples: Any, scheme: str, replicates: int) -> None:
 class _VariantModel:
     scenario: Scenario
     columns: tuple[int, ...]
-    input_model: Any  # uq.inputs.InputModel | None
 
 
 @dataclass(frozen=True)
 class _StudyModel:
     """Model function of one block for every variant: unit points -> per-variant outcomes.
 
-    Top-level and frozen, so process pools and Dask can pickle it.
+    The union's copula (uq.studies.shared_copula) correlates the block once, so a shared
+    input has the same probability level in every variant; each variant then reads its
+    columns through its own marginals. Top-level and frozen, so process pools and Dask can
+    pickle it.
     """
 
     variants: tuple[_VariantModel, ...]
+    copula: Any  # uq.inputs.InputModel over the union, or None when nothing is correlated
 
     def __call__(self, u: np.ndarray) -> list[dict[str, np.ndarray]]:
+        if self.copula is not None:
+            u = self.copula.transform(u[:, : self.copula.dimension])
         out = []
         for v in self.variants:
-            if v.columns:
-                x = v.input_model.transform(u[:, list(v.columns)])
-            else:
-                x = np.zeros((u.shape[0], 0))
+            x = inputs_from_shared(v.scenario, v.columns, u)
             r = ScenarioModel(v.scenario)(x)
-            reached = r["arrived"] & np.isin(r["failure_mode"], (FailureMode.NONE, FailureMode.TIME_LIMIT))
+            # the same arrivals as uq.assess: every vehicle reaching the recovery point
+            reached = r["reaches_recovery"]
             out.append({"success": r["success"], "margin_Wh": r["margin_Wh"],
                         "duration_days": r["duration_days"], "reached": reached, "inputs": x})
         return out
@@ -800,10 +802,9 @@ def run_study(study: Study, *, samples: int | None = None, seed: int | None = No
             raise StudySettingsError(f"{name} = {value!r}: expected an integer >= {low}")
     t0 = time.perf_counter()
     union = study.input_names
-    specs = tuple(_VariantModel(v.scenario, tuple(columns_for(v.scenario, union)),
-                                input_model_of(v.scenario) if v.scenario.inputs else None)
+    specs = tuple(_VariantModel(v.scenario, tuple(columns_for(v.scenario, union)))
                   for v in study.variants)
-    model = _StudyModel(specs)
+    model = _StudyModel(specs, shared_copula([v.scenario for v in study.variants], union))
     k = study.replicates
     per = samples // k
     designs = tuple(SampleDesign(scheme=study.scheme, n=per, dimension=max(len(union), 1),

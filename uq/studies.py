@@ -27,6 +27,8 @@ __all__ = [
     "StudyError",
     "shared_unit_points",
     "columns_for",
+    "shared_copula",
+    "inputs_from_shared",
     "with_setpoint",
     "evaluate_on_shared_samples",
     "SweepResult",
@@ -77,7 +79,7 @@ def with_setpoint(scenario: Scenario, field: str, value: float) -> Scenario:
                                correlations=correlations)
 
 
-def _shared_copula(scenarios: Sequence[Scenario], union: Sequence[str]) -> InputModel | None:
+def shared_copula(scenarios: Sequence[Scenario], union: Sequence[str]) -> InputModel | None:
     """One Gaussian copula over the union of inputs, from every configuration's correlations.
 
     Correlating per configuration (in each one's own input order) would give a shared input
@@ -115,16 +117,21 @@ def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, s
     for s in scenarios:
         union.extend(name for name in s.input_names if name not in union)
     u = shared_unit_points(union, samples, seed=seed, scheme=scheme)
-    copula = _shared_copula(scenarios, union)
+    copula = shared_copula(scenarios, union)
     if copula is not None:
         u = copula.transform(u)  # correlated uniforms
-    results = []
-    for s in scenarios:
-        cols = columns_for(s, union)
-        x = np.column_stack([m.ppf(u[:, c]) for m, c in zip(s.inputs, cols)]) if cols \
-            else np.zeros((samples, 0))
-        results.append(ScenarioModel(s)(x))
-    return results
+    return [ScenarioModel(s)(inputs_from_shared(s, columns_for(s, union), u))
+            for s in scenarios]
+
+
+def inputs_from_shared(scenario: Scenario, columns: Sequence[int],
+                       correlated_unit: np.ndarray) -> np.ndarray:
+    """(n, d) physical inputs of ``scenario`` from the union plan's (correlated) unit points:
+    each of its inputs reads its column by name through its own marginal."""
+    if not columns:
+        return np.zeros((correlated_unit.shape[0], 0))
+    return np.column_stack([m.ppf(correlated_unit[:, c])
+                            for m, c in zip(scenario.inputs, columns)])
 
 
 def deterministic_optimum(scenario: Scenario, field: str) -> float | None:

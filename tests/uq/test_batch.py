@@ -322,3 +322,28 @@ def test_losing_a_worker_mid_run_leaves_the_result_unchanged(tmp_path, dask_clus
                          executor=_KillingExecutor(dask_cluster, marker)).to_frame()
     assert marker.exists() and int(marker.read_text()) != os.getpid()  # a worker did die
     pd.testing.assert_frame_equal(reference, survived, check_exact=True)
+
+
+def test_correlated_shared_inputs_keep_their_values_when_a_variant_drops_an_input():
+    # derived (common random numbers): one copula over the union of inputs, so a variant
+    # that fixes an input listed before the correlated pair still sees, row by row, the
+    # same values of the correlated currents as the base variant
+    import tomllib
+
+    from uq.batch import _StudyModel, _VariantModel
+    from uq.scenario import parse_scenario
+    from uq.studies import columns_for, shared_copula, shared_unit_points
+
+    doc = tomllib.loads((CONFIGS / "under_ice_section.toml").read_text())
+    base = parse_scenario(doc)
+    doc["vehicle"]["hotel_load_W"] = 40.0  # the first input becomes a fixed number
+    fixed = parse_scenario(doc)
+    union = list(base.input_names)
+    model = _StudyModel(tuple(_VariantModel(s, tuple(columns_for(s, union)))
+                              for s in (base, fixed)),
+                        shared_copula([base, fixed], union))
+    out_base, out_fixed = model(shared_unit_points(union, 256, seed=3))
+    for name in ("legs.skerrow_ice_crossing.current_along_m_s",
+                 "legs.tallin_recovery_run.current_along_m_s"):
+        np.testing.assert_array_equal(out_base["inputs"][:, base.input_names.index(name)],
+                                      out_fixed["inputs"][:, fixed.input_names.index(name)])
