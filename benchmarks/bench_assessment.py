@@ -1,13 +1,13 @@
 """End-to-end default assessment: wall time, peak memory and where the time goes (on demand).
 
-Runs ``uq.assess.assess`` on a demo scenario with its [analysis] defaults, writing nothing,
+Runs ``uq.studies.assess.assess`` on a demo scenario with its [analysis] defaults, writing nothing,
 each repeat in a fresh subprocess so its peak RSS (``resource.getrusage(RUSAGE_SELF)
 .ru_maxrss``) is its own. Inside, the pieces are timed by wrapping them:
 
 * sampling    - ``SampleDesign.unit_points`` + ``InputModel.transform`` in the propagation;
 * model       - ``uq.simulate.simulate_arrays`` in the propagation;
-* estimators  - the rest of ``uq.assess.propagate`` (collecting rows, intervals, curves);
-* sensitivity - ``uq.assess.sensitivity_analysis`` (Saltelli design, its model runs, SALib
+* estimators  - the rest of ``uq.studies.assess.propagate`` (collecting rows, intervals, curves);
+* sensitivity - ``uq.studies.assess.sensitivity_analysis`` (Saltelli design, its model runs, SALib
   indices with bootstrap, the polynomial chaos fit), with its own split;
 * decisions   - ``uq.simulate.nominal`` + the decision stage;
 * report      - ``uq.report.write_report`` into a temporary directory, when ``uq.report``
@@ -91,12 +91,12 @@ def run_child(config: str, profile: bool) -> dict:
     import warnings
 
     t_import = time.perf_counter()
-    import uq.assess as assess_module
-    import uq.pce as pce_module
-    import uq.sensitivity as sensitivity_module
+    import uq.studies.assess as assess_module
+    import uq.estimators.pce as pce_module
+    import uq.estimators.sobol as sensitivity_module
     import uq.simulate as simulate_module
-    from uq.inputs import InputModel
-    from uq.plans import SampleDesign
+    from uq.sampling.inputs import InputModel
+    from uq.sampling.plans import SampleDesign
     from uq.scenario import load_scenario
 
     import_s = time.perf_counter() - t_import

@@ -61,7 +61,7 @@ def main(argv=None):
     warnings.simplefilter("ignore")
     for path in sorted(CONFIGS.glob("*.toml")):
         with open(path, "rb") as f:
-            if "study" in tomllib.load(f):  # a batch-study file (uq.batch), not a scenario
+            if "study" in tomllib.load(f):  # a batch-study file (uq.studies.batch), not a scenario
                 continue
         scenario = load_scenario(path)
         rng = np.random.default_rng(args.seed)

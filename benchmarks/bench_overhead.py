@@ -6,7 +6,7 @@ For each demo and scheme, side by side in one run (interleaved, best of ``--repe
                    inputs, one call;
 (a') bare model  - the same, called block by block with the engine's block size (what (b)
                    actually calls; shows whether block size alone costs anything);
-(b) full stream  - ``uq.engine.stream`` with sampling, the input transform and three reducers
+(b) full stream  - ``uq.sampling.engine.stream`` with sampling, the input transform and three reducers
                    (CountReducer on success, HistogramReducer on range_km with 241 edges,
                    SumReducer on margin_Wh).
 
@@ -30,9 +30,9 @@ import warnings
 
 import numpy as np
 
-from uq.assess import input_model_of
-from uq.engine import CountReducer, HistogramReducer, MultiReducer, SumReducer, stream
-from uq.plans import SampleDesign
+from uq.studies.assess import input_model_of
+from uq.sampling.engine import CountReducer, HistogramReducer, MultiReducer, SumReducer, stream
+from uq.sampling.plans import SampleDesign
 from uq.scenario import load_scenario
 from uq.simulate import ScenarioModel
 
@@ -103,7 +103,7 @@ def _default_block_size() -> int:
     """The block size an assessment uses by default (read, not copied, so it cannot go stale)."""
     import dataclasses
 
-    from uq.assess import Settings
+    from uq.studies.assess import Settings
 
     return next(f.default for f in dataclasses.fields(Settings) if f.name == "block_size")
 
@@ -115,7 +115,7 @@ def main(argv=None) -> int:
     parser.add_argument("--log2n", type=int, default=16, help="N = 2^m samples (default 16)")
     parser.add_argument("--repeat", type=int, default=3, help="best of this many rounds")
     parser.add_argument("--block-size", type=int, default=_default_block_size(),
-                        help="engine block size (default: that of uq.assess.Settings)")
+                        help="engine block size (default: that of uq.studies.assess.Settings)")
     args = parser.parse_args(argv)
 
     print(_machine.machine_report())

@@ -1,7 +1,7 @@
 """RQMC against Monte Carlo: replicate spread of the headline estimates at equal N (on demand).
 
 For each demo scenario and each N, K independent replicates of each scheme are streamed
-through the transit model (the engine path of ``uq.assess.propagate``):
+through the transit model (the engine path of ``uq.studies.assess.propagate``):
 
 * RQMC: scrambled Sobol', ``SampleDesign("sobol", N, d, seed, replicate=r)``, r = 0..K-1;
 * MC:   ``SampleDesign("monte-carlo", N, d, seed + 1 + r)``, a distinct seed per replicate.
@@ -49,10 +49,10 @@ from pathlib import Path
 import numpy as np
 from scipy import stats
 
-from uq.assess import input_model_of
+from uq.studies.assess import input_model_of
 from physics.states import FailureMode
-from uq.engine import CountReducer, MultiReducer, SumReducer, stream
-from uq.plans import SampleDesign
+from uq.sampling.engine import CountReducer, MultiReducer, SumReducer, stream
+from uq.sampling.plans import SampleDesign
 from uq.scenario import load_scenario, parse_scenario
 from uq.simulate import ScenarioModel
 

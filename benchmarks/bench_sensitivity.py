@@ -28,8 +28,8 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from uq.pce import chaospy_reference_indices, fit_polynomial_chaos  # noqa: E402
-from uq.sensitivity import saltelli_design, sobol_indices  # noqa: E402
+from uq.estimators.pce import chaospy_reference_indices, fit_polynomial_chaos  # noqa: E402
+from uq.estimators.sobol import saltelli_design, sobol_indices  # noqa: E402
 
 # Ishigami & Homma 1990; Homma & Saltelli 1996 (a = 7, b = 0.1).
 ISHIGAMI_TOTAL = np.array([0.5576, 0.4424, 0.2437])

@@ -1,4 +1,4 @@
-"""Streaming benchmark: wall time and peak memory of uq.engine.stream at 1e6 / 1e7 (/ 1e8).
+"""Streaming benchmark: wall time and peak memory of uq.sampling.engine.stream at 1e6 / 1e7 (/ 1e8).
 
 Run on demand (not a test):
 
@@ -29,9 +29,9 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from uq.engine import CountReducer, HistogramReducer, MultiReducer, stream  # noqa: E402
-from uq.inputs import InputModel, ScipyMarginal  # noqa: E402
-from uq.plans import SampleDesign  # noqa: E402
+from uq.sampling.engine import CountReducer, HistogramReducer, MultiReducer, stream  # noqa: E402
+from uq.sampling.inputs import InputModel, ScipyMarginal  # noqa: E402
+from uq.sampling.plans import SampleDesign  # noqa: E402
 
 EDGES = np.linspace(0.0, 20.0, 401)
 
@@ -82,7 +82,7 @@ def run_one(n: int, scheme: str, workers: int, chunk_blocks: int, repeat: int = 
     elapsed, cpu = min(walls), min(cpus)  # best of `repeat`: the machine may be shared
     usage_self = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     usage_children = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    curve = result["margin"].exceedance_curve()
+    curve = histogram_exceedance_curve(result["margin"])
     return {
         "n": n,
         "scheme": scheme,

@@ -7,6 +7,8 @@ JSON conversion of result dataclasses and the number formatting used in sentence
 
 from __future__ import annotations
 
+from uq.errors import InputError
+
 import dataclasses
 import math
 from typing import Any
@@ -26,7 +28,7 @@ __all__ = [
 
 
 # --------------------------------------------------------------------------- errors
-class DecisionInputError(ValueError):
+class DecisionInputError(InputError):
     """Base class: an input to a decision function is not what it must be."""
 
 

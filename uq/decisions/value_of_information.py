@@ -28,6 +28,8 @@ from typing import NamedTuple
 import numpy as np
 from scipy import special, stats
 
+from uq.scenario.types import TestCandidate
+
 from ._common import (
     DecisionInputError,
     OutOfRangeError,
@@ -701,29 +703,6 @@ def decision_flip_probability(
 
 
 # =========================================================================== test ranking
-@dataclass(frozen=True)
-class TestCandidate:
-    """A laboratory or field test that could be funded before deployment.
-
-    Attributes
-    ----------
-    name : str
-    cost : float
-        Cost of the test [currency], >= 0.
-    inputs : tuple of str
-        Inputs the test measures (names in the ``inputs`` mapping of :func:`rank_tests`).
-    residual_fraction : float
-        Posterior sd / prior sd of each measured input after the test [-] (0 = exact).
-    """
-
-    __test__ = False  # not a pytest test class
-
-    name: str
-    cost: float
-    inputs: tuple[str, ...]
-    residual_fraction: float = 0.0
-
-
 @dataclass(frozen=True)
 class TestRankingRow:
     """One candidate test in the ranking. Money in [currency]; ``None`` where not computed."""

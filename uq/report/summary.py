@@ -54,7 +54,7 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
 
     Parameters
     ----------
-    assessment : uq.assess.Assessment
+    assessment : uq.studies.assess.Assessment
     sweep : uq.studies.SweepResult or uq.decisions.SweepSummary, optional
     comparison : uq.studies.ComparisonResult or uq.decisions.PairedComparison, optional
 

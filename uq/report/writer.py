@@ -7,6 +7,8 @@ removed, so a reader never sees half a report. An existing report is replaced on
 """
 from __future__ import annotations
 
+from uq.errors import TransitRiskError
+
 import base64
 import json
 import os
@@ -74,7 +76,7 @@ _WINDOWS_RESERVED = {"con", "prn", "aux", "nul", *(f"com{i}" for i in range(1, 1
 _MAX_NAME = 80
 
 
-class ReportExistsError(FileExistsError):
+class ReportExistsError(TransitRiskError, FileExistsError):
     """The report folder already exists and ``overwrite`` was not given."""
 
 
@@ -109,7 +111,7 @@ def write_report(assessment, out_dir: str | os.PathLike, *, overwrite: bool = Fa
 
     Parameters
     ----------
-    assessment : uq.assess.Assessment
+    assessment : uq.studies.assess.Assessment
     out_dir : path-like
         The report folder to create (its parent is created if missing).
     overwrite : bool, optional

@@ -1,0 +1,47 @@
+"""Coverage of the P(success) interval the assessment reports, on an analytic case.
+
+Success indicator 1{x1 x2 <= t} with x1, x2 ~ U(0, 1): P = t (1 - ln t) (derived: the area
+under the hyperbola x1 x2 = t in the unit square). With t = 0.6, P = 0.90649.
+"""
+import numpy as np
+import pytest
+
+from uq.studies.assess import _proportion
+from uq.sampling.plans import SampleDesign
+
+T = 0.6
+P_TRUE = T * (1.0 - np.log(T))
+
+
+def _coverage(scheme, repetitions, *, n, replicates):
+    covered = 0
+    for rep in range(repetitions):
+        counts = []
+        for r in range(replicates):
+            d = SampleDesign(scheme=scheme, n=n, dimension=2, seed=1000 + rep, replicate=r)
+            u = d.unit_points()
+            counts.append((int(np.count_nonzero(u[:, 0] * u[:, 1] <= T)), n))
+        est, _ = _proportion(counts, scheme, 0.95)
+        covered += est.lower <= P_TRUE <= est.upper
+    return covered / repetitions
+
+
+@pytest.mark.slow
+def test_rqmc_replicate_interval_covers_95_percent_over_1000_repetitions():
+    # the assessment's default: K = 8 scrambled Sobol' replicates, Student-t interval.
+    # 1000 repetitions: binomial sd of the coverage is sqrt(.95 * .05 / 1000) = 0.7 %,
+    # so the 93-97 % band is about +-3 sd.
+    coverage = _coverage("sobol", 1000, n=256, replicates=8)
+    assert 0.93 <= coverage <= 0.97, coverage
+
+
+@pytest.mark.slow
+def test_monte_carlo_wilson_interval_covers_95_percent_over_1000_repetitions():
+    coverage = _coverage("monte-carlo", 1000, n=2048, replicates=1)
+    assert 0.93 <= coverage <= 0.97, coverage
+
+
+def test_rqmc_replicate_interval_coverage_quick():
+    # 200 repetitions in the default run: sd 1.5 %, band widened to 90-99 % (about +-3 sd)
+    coverage = _coverage("sobol", 200, n=256, replicates=8)
+    assert 0.90 <= coverage <= 0.99, coverage

@@ -1,0 +1,685 @@
+"""Variance-based (Sobol') sensitivity indices from a Saltelli design.
+
+The design lives on the unit hypercube ``[0, 1]^d``; the caller maps the unit
+points to physical inputs (inverse CDFs, copulas, ...) and evaluates the model
+on every row *in the order of the design*.  The estimator then reads the
+design's own metadata (base size, number of factors or groups, second-order
+flag) instead of inferring them from the length of the output array.
+
+Sampling and estimation are delegated to SALib (``SALib.sample.sobol`` and
+``SALib.analyze.sobol``): scrambled Sobol' points, the Saltelli (2010)
+first-order and Jansen (1999) total-order estimators, and bootstrap
+confidence intervals.  This module adds the guards that SALib leaves to the
+caller: power-of-two base sizes, an exact run-count check, a consistent
+second-order flag, and an explicit status for constant or non-finite outputs.
+
+Notes
+-----
+Independence.  Sobol' indices in this form assume independent inputs.  With
+a copula-based input model, the indices refer to the independent unit
+coordinates the caller maps from, not to the correlated physical inputs.
+
+References
+----------
+.. [1] Saltelli, A. et al. (2010). Variance based sensitivity analysis of
+   model output. Design and estimator for the total sensitivity index.
+   Comput. Phys. Commun. 181(2):259-270.
+.. [2] Jansen, M. J. W. (1999). Analysis of variance designs for model
+   output. Comput. Phys. Commun. 117:35-43.
+.. [3] Saltelli, A. (2002). Making best use of model evaluations to compute
+   sensitivity indices. Comput. Phys. Commun. 145(2):280-297.
+.. [4] Owen, A. B. (2020). On dropping the first Sobol' point.
+   arXiv:2008.08051.
+"""
+
+from __future__ import annotations
+
+from uq.errors import InputError
+
+import math
+import numbers
+import zlib
+from collections.abc import Iterator, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+from SALib.analyze import sobol as _salib_analyze
+from SALib.sample import sobol as _salib_sample
+
+__all__ = [
+    "BaseSizeError",
+    "FactorNamesError",
+    "Interval",
+    "OutputLengthError",
+    "SaltelliDesign",
+    "SensitivityOptionError",
+    "SobolIndices",
+    "SobolResults",
+    "saltelli_design",
+    "sobol_indices",
+]
+
+#: Status strings of :class:`SobolIndices`.
+STATUS_OK = "ok"
+STATUS_ZERO_VARIANCE = "zero variance"
+STATUS_NON_FINITE = "non-finite"
+
+
+# --------------------------------------------------------------------------
+# Errors
+# --------------------------------------------------------------------------
+class BaseSizeError(InputError):
+    """The Saltelli base size is not a power of two (>= 2)."""
+
+
+class FactorNamesError(InputError):
+    """Factor names or groups are empty, duplicated or inconsistent."""
+
+
+class OutputLengthError(InputError):
+    """An output array does not match the design it claims to come from."""
+
+
+class SensitivityOptionError(InputError):
+    """An estimator option (confidence level, bootstrap size, ...) is invalid."""
+
+
+# --------------------------------------------------------------------------
+# Design
+# --------------------------------------------------------------------------
+def _check_base_n(base_n: object) -> int:
+    if isinstance(base_n, bool) or not isinstance(base_n, (int, np.integer)):
+        raise BaseSizeError(
+            f"base_n must be an integer power of two, got {base_n!r} "
+            f"({type(base_n).__name__})"
+        )
+    n = int(base_n)
+    if n < 2 or (n & (n - 1)) != 0:
+        if n < 2:
+            hint = "the smallest allowed is 2"
+        else:
+            low = 1 << (n.bit_length() - 1)
+            hint = f"nearest powers of two are {low} and {2 * low}"
+        raise BaseSizeError(
+            f"base_n must be a power of two >= 2 (scrambled Sobol' points keep "
+            f"their balance only for n = 2^m), got {n}; {hint}"
+        )
+    return n
+
+
+def _check_names(names: Sequence[str]) -> tuple[str, ...]:
+    if isinstance(names, str):
+        raise FactorNamesError(
+            f"names must be a sequence of strings, got the single string {names!r}"
+        )
+    out = tuple(names)
+    if len(out) == 0:
+        raise FactorNamesError("names must contain at least one factor name, got none")
+    for name in out:
+        if not isinstance(name, str) or not name:
+            raise FactorNamesError(f"every factor name must be a non-empty string, got {name!r}")
+    dupes = sorted({n for n in out if out.count(n) > 1})
+    if dupes:
+        raise FactorNamesError(f"factor names must be unique, duplicated: {dupes}")
+    return out
+
+
+def _check_groups(
+    names: tuple[str, ...],
+    groups: Mapping[str, Sequence[str]] | Sequence[Sequence[str]] | None,
+) -> tuple[tuple[tuple[str, ...], ...] | None, tuple[str, ...] | None]:
+    """Validate groups; return (members per group, group labels) in SALib order.
+
+    SALib orders groups by first appearance along ``names``; groups are put
+    in that order here so labels, design columns and indices always agree.
+    """
+    if groups is None:
+        return None, None
+    if isinstance(groups, Mapping):
+        labelled = [(str(label), tuple(members)) for label, members in groups.items()]
+    else:
+        if isinstance(groups, str):
+            raise FactorNamesError(
+                f"groups must be a sequence of name sequences or a mapping, got {groups!r}"
+            )
+        labelled = []
+        for members in groups:
+            if isinstance(members, str):
+                members = (members,)
+            members = tuple(members)
+            labelled.append(("+".join(members), members))
+    if not labelled:
+        raise FactorNamesError("groups must contain at least one group, got none")
+    seen: dict[str, str] = {}
+    for label, members in labelled:
+        if not members:
+            raise FactorNamesError(f"group {label!r} is empty")
+        for m in members:
+            if m not in names:
+                raise FactorNamesError(
+                    f"group {label!r} names factor {m!r}, which is not in names {list(names)}"
+                )
+            if m in seen:
+                raise FactorNamesError(
+                    f"factor {m!r} is in two groups ({seen[m]!r} and {label!r}); "
+                    "each factor must be in exactly one group"
+                )
+            seen[m] = label
+    missing = [n for n in names if n not in seen]
+    if missing:
+        raise FactorNamesError(
+            f"every factor must belong to a group; not grouped: {missing}"
+        )
+    labels = [label for label, _ in labelled]
+    if len(set(labels)) != len(labels):
+        raise FactorNamesError(f"group labels must be unique, got {labels}")
+    position = {n: i for i, n in enumerate(names)}
+    labelled.sort(key=lambda item: min(position[m] for m in item[1]))
+    members_sorted = tuple(tuple(sorted(m, key=position.__getitem__)) for _, m in labelled)
+    return members_sorted, tuple(label for label, _ in labelled)
+
+
+def _seed_entropy(seed: int | np.random.SeedSequence | None) -> int | Sequence[int]:
+    """Entropy of a design seed (recorded so a design can be rebuilt)."""
+    if isinstance(seed, np.random.SeedSequence):
+        return seed.entropy
+    if seed is None:
+        return np.random.SeedSequence().entropy
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise SensitivityOptionError(
+            f"seed must be None, a non-negative integer or a SeedSequence, got {seed!r}"
+        )
+    return int(seed)
+
+
+def _problem_dict(
+    names: tuple[str, ...],
+    groups: tuple[tuple[str, ...], ...] | None,
+    labels: tuple[str, ...] | None,
+) -> dict:
+    """SALib problem dict on the unit hypercube."""
+    problem = {
+        "num_vars": len(names),
+        "names": list(names),
+        "bounds": [[0.0, 1.0]] * len(names),
+    }
+    if groups is not None:
+        label_of = {m: lab for lab, members in zip(labels, groups) for m in members}
+        problem["groups"] = [label_of[n] for n in names]
+    return problem
+
+
+@dataclass(frozen=True, eq=False)
+class SaltelliDesign:
+    """A Saltelli cross-sampled design on the unit hypercube.
+
+    Attributes
+    ----------
+    names : tuple of str
+        Factor names, one per column of `unit_points`.
+    base_n : int
+        Base sample size N (a power of two).
+    second_order : bool
+        Whether the design carries the extra N·D rows needed for
+        second-order indices.
+    seed : int
+        Entropy of the scrambling seed (rebuilds the same design).
+    groups : tuple of tuple of str or None
+        Factor groups (members per group), ordered by first appearance in
+        `names`; None when every factor is its own group.
+    group_labels : tuple of str or None
+        One label per group.
+    unit_points : ndarray, shape (n_runs, d)
+        Points in [0, 1)^d, read-only, in the row order the estimator expects.
+    """
+
+    names: tuple[str, ...]
+    base_n: int
+    second_order: bool
+    seed: int | Sequence[int]
+    groups: tuple[tuple[str, ...], ...] | None
+    unit_points: np.ndarray = field(repr=False)
+    group_labels: tuple[str, ...] | None = None
+
+    def __post_init__(self) -> None:
+        expected = (self.n_runs, len(self.names))
+        if self.unit_points.shape != expected:
+            raise OutputLengthError(
+                f"unit_points has shape {self.unit_points.shape}, expected {expected} "
+                f"for base_n={self.base_n}, {self.n_factors} factors/groups, "
+                f"second_order={self.second_order}"
+            )
+        if self.unit_points.flags.writeable:
+            points = np.array(self.unit_points, dtype=float)  # never freeze the caller's array
+            points.flags.writeable = False
+            object.__setattr__(self, "unit_points", points)
+
+    @property
+    def n_factors(self) -> int:
+        """Number of sensitivity factors D (groups if grouped, else inputs)."""
+        return len(self.groups) if self.groups is not None else len(self.names)
+
+    @property
+    def factor_labels(self) -> tuple[str, ...]:
+        """Labels of the D factors the indices refer to."""
+        return self.group_labels if self.group_labels is not None else self.names
+
+    @property
+    def n_runs(self) -> int:
+        """Number of model runs: N(D+2), or N(2D+2) with second order."""
+        d = self.n_factors
+        return self.base_n * (2 * d + 2 if self.second_order else d + 2)
+
+    def problem(self) -> dict:
+        """A fresh SALib problem dict for this design (unit bounds)."""
+        return _problem_dict(self.names, self.groups, self.group_labels)
+
+
+def saltelli_design(
+    names: Sequence[str],
+    *,
+    base_n: int,
+    second_order: bool = False,
+    seed: int | np.random.SeedSequence | None,
+    groups: Mapping[str, Sequence[str]] | Sequence[Sequence[str]] | None = None,
+) -> SaltelliDesign:
+    """Build a scrambled Sobol'/Saltelli design on the unit hypercube.
+
+    Parameters
+    ----------
+    names : sequence of str
+        Factor names, one per input dimension.
+    base_n : int
+        Base sample size N; must be a power of two (Owen 2020 [4]_).
+    second_order : bool, optional
+        Add the N·D extra rows needed for second-order indices.
+    seed : int, SeedSequence or None
+        Scrambling seed.  Required (pass None explicitly for fresh entropy,
+        which is then recorded in ``design.seed``).
+    groups : mapping or sequence of sequences, optional
+        Factor groups: ``{"label": ("a", "b"), ...}`` or ``(("a", "b"), ("c",))``
+        (labels then ``"a+b"``, ``"c"``).  Every factor must be in exactly
+        one group.
+
+    Returns
+    -------
+    SaltelliDesign
+        Design with ``n_runs = N(D+2)`` rows, or ``N(2D+2)`` with second
+        order, D being the number of groups (or of names).
+
+    Raises
+    ------
+    BaseSizeError
+        If `base_n` is not a power of two >= 2.
+    FactorNamesError
+        If names or groups are inconsistent.
+
+    Notes
+    -----
+    The first Sobol' point is kept (no skipping) and the sequence is
+    scrambled (LMS + digital shift, via ``scipy.stats.qmc.Sobol`` inside
+    SALib), as recommended by Owen (2020).
+    """
+    names_t = _check_names(names)
+    n = _check_base_n(base_n)
+    members, labels = _check_groups(names_t, groups)
+    entropy = _seed_entropy(seed)
+    problem = _problem_dict(names_t, members, labels)
+    sequence = seed if isinstance(seed, np.random.SeedSequence) else np.random.SeedSequence(entropy)
+    generator = np.random.default_rng(sequence)
+    points = _salib_sample.sample(
+        problem,
+        n,
+        calc_second_order=bool(second_order),
+        scramble=True,
+        seed=generator,
+    )
+    points = np.ascontiguousarray(points, dtype=float)
+    return SaltelliDesign(
+        names=names_t,
+        base_n=n,
+        second_order=bool(second_order),
+        seed=entropy,
+        groups=members,
+        unit_points=points,
+        group_labels=labels,
+    )
+
+
+# --------------------------------------------------------------------------
+# Results
+# --------------------------------------------------------------------------
+class Interval(NamedTuple):
+    """Lower and upper ends of a confidence interval, one entry per factor."""
+
+    low: np.ndarray
+    high: np.ndarray
+
+
+def _readonly(a: np.ndarray) -> np.ndarray:
+    a = np.array(a, dtype=float)
+    a.flags.writeable = False
+    return a
+
+
+@dataclass(frozen=True, eq=False)
+class SobolIndices:
+    """Sobol' indices of one output.
+
+    Attributes
+    ----------
+    output : str
+        Output name.
+    factors : tuple of str
+        Factor (or group) labels, in the order of the arrays.
+    first, total : ndarray, shape (D,)
+        First-order (Saltelli 2010) and total (Jansen 1999) indices [-].
+    first_interval, total_interval : Interval
+        ``(estimate - h, estimate + h)`` with h the bootstrap half-width
+        ``z_{(1+c)/2} · sd_boot`` reported by SALib (normal approximation).
+        Not clipped to [0, 1]: sampling error can push either end outside.
+    second, second_interval : ndarray (D, D) / Interval or None
+        Second-order indices (symmetric, NaN on the diagonal) when the
+        design carries second order.
+    status : str
+        ``"ok"``, ``"zero variance"`` (constant output: every index is 0,
+        nothing was divided) or ``"non-finite"`` (NaN/inf in the output:
+        every index is NaN, nothing was estimated).
+    confidence : float
+        Confidence level of the intervals.
+    n_bootstrap : int
+        Number of bootstrap resamples.
+    base_n : int
+        Base size N of the design.
+    output_mean, output_variance : float
+        Sample mean and variance (ddof=0) of the output [output units, ^2].
+    """
+
+    output: str
+    factors: tuple[str, ...]
+    first: np.ndarray
+    first_interval: Interval
+    total: np.ndarray
+    total_interval: Interval
+    status: str
+    confidence: float
+    n_bootstrap: int
+    base_n: int
+    output_mean: float
+    output_variance: float
+    second: np.ndarray | None = None
+    second_interval: Interval | None = None
+
+    def to_frame(self) -> pd.DataFrame:
+        """First and total indices with interval ends, one row per factor."""
+        frame = pd.DataFrame(
+            {
+                "first": self.first,
+                "first_low": self.first_interval.low,
+                "first_high": self.first_interval.high,
+                "total": self.total,
+                "total_low": self.total_interval.low,
+                "total_high": self.total_interval.high,
+            },
+            index=pd.Index(self.factors, name="factor"),
+        )
+        frame.attrs.update(output=self.output, status=self.status, confidence=self.confidence)
+        return frame
+
+    def second_order_frame(self) -> pd.DataFrame:
+        """Second-order indices, one row per factor pair (i < j)."""
+        if self.second is None or self.second_interval is None:
+            raise SensitivityOptionError(
+                f"output {self.output!r} has no second-order indices: the design "
+                "was built with second_order=False"
+            )
+        i, j = np.triu_indices(len(self.factors), k=1)
+        frame = pd.DataFrame(
+            {
+                "second": self.second[i, j],
+                "second_low": self.second_interval.low[i, j],
+                "second_high": self.second_interval.high[i, j],
+            },
+            index=pd.MultiIndex.from_arrays(
+                [np.asarray(self.factors)[i], np.asarray(self.factors)[j]],
+                names=["factor", "other"],
+            ),
+        )
+        frame.attrs.update(output=self.output, status=self.status, confidence=self.confidence)
+        return frame
+
+
+class SobolResults(Mapping):
+    """Read-only mapping ``output name -> SobolIndices`` with a joint table."""
+
+    def __init__(self, results: Mapping[str, SobolIndices], design: SaltelliDesign, seed):
+        self._results = dict(results)
+        self.design = design
+        self.seed = seed
+
+    def __getitem__(self, key: str) -> SobolIndices:
+        return self._results[key]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._results)
+
+    def __len__(self) -> int:
+        return len(self._results)
+
+    def __repr__(self) -> str:
+        status = {k: v.status for k, v in self._results.items()}
+        return f"SobolResults({status})"
+
+    def to_frame(self) -> pd.DataFrame:
+        """All outputs stacked, indexed by (output, factor), with a status column."""
+        frames = []
+        for name, res in self._results.items():
+            f = res.to_frame()
+            f.insert(0, "status", res.status)
+            f.index = pd.MultiIndex.from_product([[name], f.index], names=["output", "factor"])
+            frames.append(f)
+        return pd.concat(frames)
+
+
+# --------------------------------------------------------------------------
+# Estimation
+# --------------------------------------------------------------------------
+def _output_stream(
+    root: np.random.SeedSequence, name: str
+) -> np.random.Generator:
+    """Bootstrap stream for one output, keyed by the output's name.
+
+    Keying by name (not position) keeps an output's intervals unchanged when
+    other outputs are added to or removed from the call.
+    """
+    key = zlib.crc32(name.encode("utf-8"))
+    child = np.random.SeedSequence(root.entropy, spawn_key=(*root.spawn_key, key))
+    return np.random.default_rng(child)
+
+
+def _constant_result(
+    name: str, design: SaltelliDesign, fill: float, status: str, confidence: float,
+    n_bootstrap: int, mean: float, var: float,
+) -> SobolIndices:
+    d = design.n_factors
+    v = np.full(d, fill)
+    second = second_iv = None
+    if design.second_order:
+        s = np.full((d, d), fill)
+        np.fill_diagonal(s, np.nan)
+        second = _readonly(s)
+        second_iv = Interval(second, second)
+    return SobolIndices(
+        output=name,
+        factors=design.factor_labels,
+        first=_readonly(v),
+        first_interval=Interval(_readonly(v), _readonly(v)),
+        total=_readonly(v),
+        total_interval=Interval(_readonly(v), _readonly(v)),
+        status=status,
+        confidence=confidence,
+        n_bootstrap=n_bootstrap,
+        base_n=design.base_n,
+        output_mean=mean,
+        output_variance=var,
+        second=second,
+        second_interval=second_iv,
+    )
+
+
+def sobol_indices(
+    design: SaltelliDesign,
+    outputs: Mapping[str, np.ndarray],
+    *,
+    confidence: float = 0.95,
+    n_bootstrap: int = 200,
+    seed: int | np.random.SeedSequence | np.random.Generator | None,
+    variance_rtol: float = 1e-10,
+) -> SobolResults:
+    """First, total (and second) order Sobol' indices of each output.
+
+    Parameters
+    ----------
+    design : SaltelliDesign
+        The design the outputs were evaluated on, row for row.
+    outputs : mapping of str to array_like, each shape (design.n_runs,)
+        Model outputs in design row order [any units].  Boolean / 0-1
+        indicator outputs (e.g. failure) are allowed.
+    confidence : float, optional
+        Confidence level of the bootstrap intervals, in (0, 1).
+    n_bootstrap : int, optional
+        Bootstrap resamples (SALib ``num_resamples``), >= 2.
+    seed : int, SeedSequence, Generator or None
+        Bootstrap seed.  Each output gets its own stream keyed by its name.
+    variance_rtol : float, optional
+        An output whose standard deviation is <= ``variance_rtol · |mean|``
+        (or exactly zero) is treated as constant [-].
+
+    Returns
+    -------
+    SobolResults
+        Mapping ``output name -> SobolIndices`` (plus ``.to_frame()``).
+
+    Raises
+    ------
+    OutputLengthError
+        If an output is not 1-D of length ``design.n_runs``.
+    SensitivityOptionError
+        If `confidence` or `n_bootstrap` is invalid.
+
+    Notes
+    -----
+    SALib is called with the design's own problem dict and second-order
+    flag, so N, D and the group structure are never inferred from the data.
+    SALib cannot check the row order: evaluate the outputs on
+    ``design.unit_points`` (mapped) without reordering.
+
+    The intervals are ``estimate ± h``, h = SALib's bootstrap half-width,
+    i.e. a normal approximation centred on the full-sample estimate, not a
+    percentile interval.  The bootstrap resamples rows as if they were
+    i.i.d., so on a scrambled Sobol' design it reports Monte Carlo-sized
+    uncertainty: typically several times wider than the actual (randomised
+    QMC) error, i.e. conservative.  For an RQMC error bar, repeat the design
+    with independent seeds and take the spread.
+
+    A constant output is reported with status ``"zero variance"`` and all
+    indices 0; an output with NaN or inf with status ``"non-finite"`` and all
+    indices NaN.  Neither is passed to SALib.
+    """
+    if not isinstance(design, SaltelliDesign):
+        raise OutputLengthError(
+            f"design must be a SaltelliDesign (it carries N, D and the second-order "
+            f"flag), got {type(design).__name__}"
+        )
+    if isinstance(confidence, bool) or not (isinstance(confidence, numbers.Real) and 0.0 < float(confidence) < 1.0):
+        raise SensitivityOptionError(f"confidence must be in (0, 1), got {confidence!r}")
+    if isinstance(n_bootstrap, bool) or not isinstance(n_bootstrap, (int, np.integer)) or n_bootstrap < 2:
+        raise SensitivityOptionError(f"n_bootstrap must be an integer >= 2, got {n_bootstrap!r}")
+    if not (np.isfinite(variance_rtol) and variance_rtol >= 0):
+        raise SensitivityOptionError(f"variance_rtol must be finite and >= 0, got {variance_rtol!r}")
+    if not isinstance(outputs, Mapping) or len(outputs) == 0:
+        raise OutputLengthError("outputs must be a non-empty mapping of output name to array")
+
+    if isinstance(seed, np.random.Generator):
+        root = np.random.SeedSequence(int(seed.integers(2**63)))
+    elif isinstance(seed, np.random.SeedSequence):
+        root = seed
+    else:
+        root = np.random.SeedSequence(_seed_entropy(seed))
+
+    confidence = float(confidence)
+    n_bootstrap = int(n_bootstrap)
+    d = design.n_factors
+    results: dict[str, SobolIndices] = {}
+    for name, values in outputs.items():
+        y = np.asarray(values)
+        if y.dtype == bool:
+            y = y.astype(float)
+        try:
+            y = np.asarray(y, dtype=float)
+        except (TypeError, ValueError) as exc:
+            raise OutputLengthError(f"output {name!r} is not numeric: {exc}") from exc
+        if y.ndim != 1 or y.shape[0] != design.n_runs:
+            raise OutputLengthError(
+                f"output {name!r} has shape {y.shape}, expected ({design.n_runs},) = "
+                f"base_n {design.base_n} x ({'2D+2' if design.second_order else 'D+2'}) "
+                f"with D={d}; evaluate the model on every row of the design, in order"
+            )
+        if not np.all(np.isfinite(y)):
+            results[name] = _constant_result(
+                name, design, np.nan, STATUS_NON_FINITE, confidence, n_bootstrap,
+                float("nan"), float("nan"),
+            )
+            continue
+        mean = float(y.mean())
+        var = float(y.var())
+        sd = math.sqrt(var)
+        if np.ptp(y) == 0.0 or sd <= variance_rtol * abs(mean):
+            results[name] = _constant_result(
+                name, design, 0.0, STATUS_ZERO_VARIANCE, confidence, n_bootstrap, mean, var
+            )
+            continue
+
+        raw = _salib_analyze.analyze(
+            design.problem(),
+            y,
+            calc_second_order=design.second_order,
+            num_resamples=n_bootstrap,
+            conf_level=confidence,
+            print_to_console=False,
+            seed=_output_stream(root, name),
+        )
+        s1, s1h = np.asarray(raw["S1"], float), np.asarray(raw["S1_conf"], float)
+        st, sth = np.asarray(raw["ST"], float), np.asarray(raw["ST_conf"], float)
+        second = second_iv = None
+        if design.second_order:
+            s2 = np.asarray(raw["S2"], float)
+            s2h = np.asarray(raw["S2_conf"], float)
+            iu = np.triu_indices(d, k=1)
+            sym = np.full((d, d), np.nan)
+            symh = np.full((d, d), np.nan)
+            sym[iu] = s2[iu]
+            symh[iu] = s2h[iu]
+            sym.T[iu] = s2[iu]
+            symh.T[iu] = s2h[iu]
+            second = _readonly(sym)
+            second_iv = Interval(_readonly(sym - symh), _readonly(sym + symh))
+        results[name] = SobolIndices(
+            output=name,
+            factors=design.factor_labels,
+            first=_readonly(s1),
+            first_interval=Interval(_readonly(s1 - s1h), _readonly(s1 + s1h)),
+            total=_readonly(st),
+            total_interval=Interval(_readonly(st - sth), _readonly(st + sth)),
+            status=STATUS_OK,
+            confidence=confidence,
+            n_bootstrap=n_bootstrap,
+            base_n=design.base_n,
+            output_mean=mean,
+            output_variance=var,
+            second=second,
+            second_interval=second_iv,
+        )
+    return SobolResults(results, design, root.entropy)

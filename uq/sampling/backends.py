@@ -1,0 +1,201 @@
+"""Execution backends for the sampling engine: executors with an ordered ``.map``.
+
+:func:`uq.sampling.engine.stream` hands its tasks (picklable tuples for the top-level task function)
+to any object with ``.map(fn, iterable)`` that returns the results in submission order. This
+module provides the executors the tools use; none of them knows about blocks or chunks, so
+the engine stays the one place where the plan is split, and every backend gives the same
+numbers bit for bit.
+
+* :func:`local_executor` — this process for one worker, a
+  :class:`concurrent.futures.ProcessPoolExecutor` otherwise.
+* :class:`DaskExecutor` — a ``distributed`` client. Every task is submitted up front with
+  ``retries``; results are gathered one future at a time in submission order, so the
+  engine's ``progress`` callback advances as results arrive from the cluster. When a worker
+  is lost mid-run, the scheduler re-runs its tasks elsewhere; because a task's result depends
+  only on the task (the plan's rows are regenerated from the design record), the result is
+  unchanged.
+* :func:`dask_executor` — context manager that connects to a running scheduler, or starts a
+  loopback-only ``distributed.LocalCluster`` of single-threaded worker processes, and closes
+  what it opened.
+
+Dask is an optional dependency, imported only when a Dask backend is asked for.
+"""
+from __future__ import annotations
+
+from uq.errors import InputError, TransitRiskError
+
+import logging
+import os
+from concurrent.futures import ProcessPoolExecutor
+from contextlib import contextmanager
+from typing import Any, Callable, Iterable, Iterator
+
+import numpy as np
+
+__all__ = [
+    "BackendError",
+    "DaskUnavailableError",
+    "DASK_EXTRA_HINT",
+    "local_executor",
+    "DaskExecutor",
+    "dask_executor",
+]
+
+#: Message of :class:`DaskUnavailableError`.
+DASK_EXTRA_HINT = "the Dask backend needs the optional extra: pip install 'transit-risk[dask]'"
+
+
+class BackendError(InputError):
+    """An execution backend was asked for with invalid options."""
+
+
+class DaskUnavailableError(TransitRiskError, ImportError):
+    """The Dask backend was asked for but ``dask`` / ``distributed`` is not installed."""
+
+
+def _check_count(value: Any, name: str) -> int:
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
+        raise BackendError(f"{name} must be an integer >= 1; got {value!r}")
+    return int(value)
+
+
+def _import_distributed():
+    try:
+        import distributed
+    except ImportError as exc:
+        raise DaskUnavailableError(DASK_EXTRA_HINT) from exc
+    return distributed
+
+
+@contextmanager
+def local_executor(workers: int) -> Iterator[ProcessPoolExecutor | None]:
+    """Executor for ``workers`` local processes: None (this process) for one worker.
+
+    Parameters
+    ----------
+    workers : int
+        Number of worker processes [-], >= 1.
+
+    Yields
+    ------
+    concurrent.futures.ProcessPoolExecutor or None
+        Shut down (waiting for its tasks) on leaving the block.
+
+    Raises
+    ------
+    BackendError
+        ``workers`` is not an integer >= 1.
+    """
+    workers = _check_count(workers, "workers")
+    if workers == 1:
+        yield None
+        return
+    with ProcessPoolExecutor(workers) as pool:
+        yield pool
+
+
+class DaskExecutor:
+    """Ordered ``.map`` over a ``distributed.Client`` for :func:`uq.sampling.engine.stream`.
+
+    Parameters
+    ----------
+    client : distributed.Client
+        A connected client (the caller owns it and closes it).
+    retries : int, default 3
+        Times the scheduler re-runs a task whose function raised, on top of its own
+        rescheduling of tasks lost with a worker [-].
+
+    Notes
+    -----
+    ``map`` submits every task at once with ``client.map(fn, tasks, retries=retries,
+    pure=False)`` — ``pure=False`` so that equal-looking tasks are never merged — and then
+    yields ``future.result()`` for each future in submission order. If the consumer stops
+    early (an error downstream), the futures not yet collected are cancelled.
+    """
+
+    def __init__(self, client: Any, *, retries: int = 3) -> None:
+        if isinstance(retries, bool) or not isinstance(retries, (int, np.integer)) or retries < 0:
+            raise BackendError(f"retries must be an integer >= 0; got {retries!r}")
+        self.client = client
+        self.retries = int(retries)
+
+    def map(self, fn: Callable[[Any], Any], iterable: Iterable[Any]) -> Iterator[Any]:
+        """Submit ``fn(task)`` for every task now; return an iterator of results in order."""
+        tasks = list(iterable)
+        futures = self.client.map(fn, tasks, retries=self.retries, pure=False) if tasks else []
+        return self._results(futures)
+
+    def _results(self, futures: list) -> Iterator[Any]:
+        done = 0
+        try:
+            for future in futures:
+                yield future.result()
+                future.release()
+                done += 1
+        finally:
+            pending = futures[done:]
+            if pending:
+                self.client.cancel(pending)
+
+    def __repr__(self) -> str:
+        return f"DaskExecutor({self.client!r}, retries={self.retries})"
+
+
+@contextmanager
+def dask_executor(scheduler: str | None = None, *, local_workers: int | None = None,
+                  retries: int = 3) -> Iterator[DaskExecutor]:
+    """A :class:`DaskExecutor` on a running cluster or on a loopback ``LocalCluster``.
+
+    Parameters
+    ----------
+    scheduler : str, optional
+        Address of a running scheduler, e.g. ``"tcp://10.0.0.5:8786"``. When given,
+        ``local_workers`` must be None.
+    local_workers : int, optional
+        Without ``scheduler``: number of worker processes of the local cluster [-]
+        (default: the number of CPUs). Each worker has one thread; the cluster listens on
+        127.0.0.1 only and has no dashboard.
+    retries : int, default 3
+        See :class:`DaskExecutor`.
+
+    Yields
+    ------
+    DaskExecutor
+        The client (and the local cluster, if one was started) is closed on leaving.
+
+    Raises
+    ------
+    DaskUnavailableError
+        ``distributed`` is not installed.
+    BackendError
+        Both ``scheduler`` and ``local_workers`` given, an empty address, or a worker
+        count that is not an integer >= 1.
+
+    Notes
+    -----
+    ``silence_logs=logging.WARNING`` is the ``LocalCluster`` default, stated here: the
+    cluster lowers the chatter of its own loggers while it runs and restores their levels on
+    close; no logging is configured by this module.
+    """
+    if scheduler is not None:
+        if local_workers is not None:
+            raise BackendError(
+                f"give either a scheduler address or a local worker count, not both; got "
+                f"scheduler={scheduler!r}, local_workers={local_workers!r}")
+        if not isinstance(scheduler, str) or not scheduler.strip():
+            raise BackendError(f"scheduler must be an address such as 'tcp://host:8786'; "
+                               f"got {scheduler!r}")
+    else:
+        if local_workers is None:
+            local_workers = os.cpu_count() or 1
+        local_workers = _check_count(local_workers, "local_workers")
+    distributed = _import_distributed()
+    if scheduler is not None:
+        with distributed.Client(scheduler, set_as_default=False) as client:
+            yield DaskExecutor(client, retries=retries)
+        return
+    with distributed.LocalCluster(
+        n_workers=local_workers, threads_per_worker=1, processes=True, host="127.0.0.1",
+        dashboard_address=None, silence_logs=logging.WARNING,
+    ) as cluster, distributed.Client(cluster, set_as_default=False) as client:
+        yield DaskExecutor(client, retries=retries)

@@ -1,0 +1,737 @@
+"""Typed, immutable scenario: what a planner wrote in the scenario file, validated once.
+
+A scenario keeps the file's own units (km, days, Wh, degrees) in field names that say them;
+conversion to SI happens in :mod:`uq.simulate`, at the boundary to :mod:`physics`.
+
+Any numeric field holds either a ``float`` (a fixed value) or a marginal distribution
+(:class:`uq.scenario.distributions.Marginal`) whose ``name`` is the dotted key path of the field, e.g.
+``legs.shelf_crossing.current_along_m_s``. ``Scenario.inputs`` lists every uncertain field in
+file order; that order is the column order of every sample array.
+
+:func:`load_scenario` and :func:`parse_scenario` are the only way in: they read TOML (data,
+never code), check every key, type and physical range, and raise :class:`ScenarioError` on the
+first problem with a one-line message ``<file>: <key.path> = <value>: expected <what>``.
+A distribution is checked by its support: a normal efficiency is rejected because it can
+leave (0, 1]. Choices made here: ``appendage_factor`` >= 1 (appendages only add drag);
+in-situ temperature in [-3, 40] degC; practical salinity in (0, 42]; ``samples`` must be a
+power of two for the Sobol' scheme and ``sensitivity_base_n`` always; rank correlations must
+form a positive-definite matrix both as given and as the normal-copula matrix 2 sin(pi r/6).
+"""
+from __future__ import annotations
+
+
+import difflib
+import hashlib
+import math
+import os
+import re
+import tomllib
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field, replace
+from typing import Any, Union
+
+import numpy as np
+
+from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
+from uq.scenario.errors import MISSING, ScenarioError, _short_repr
+from uq.scenario.types import (
+    Analysis, Battery, Decision, DragCoefficient, Fouling, GliderPolar, GliderSetpoint,
+    GliderVehicle, HullGeometry, Leg, Limits, PropellerSetpoint, PropellerVehicle,
+    RankCorrelation, Scenario, TestCandidate, Value,
+)
+
+__all__ = ["load_scenario", "parse_scenario"]
+
+def load_scenario(path: str | os.PathLike[str]) -> Scenario:
+    """Read, validate and type a scenario file.
+
+    Parameters
+    ----------
+    path : str or path-like
+        A TOML scenario file (UTF-8).
+
+    Returns
+    -------
+    Scenario
+        With ``source_path`` and ``source_sha256`` (of the file bytes) recorded.
+
+    Raises
+    ------
+    ScenarioError
+        On the first problem found (one-line message naming file, key path, value and what
+        was expected), including an unreadable file or invalid TOML.
+    """
+    label = os.fspath(path)
+    try:
+        with open(label, "rb") as fh:
+            data = fh.read()
+    except OSError as exc:
+        raise ScenarioError(label, None, expected=f"a readable scenario file ({exc.strerror or exc})") from exc
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ScenarioError(label, None, expected=f"UTF-8 text, as TOML requires ({exc.reason} at byte {exc.start})") from exc
+    scenario = parse_scenario(text, source=label)
+    return replace(scenario, source_path=label, source_sha256=hashlib.sha256(data).hexdigest())
+
+
+def parse_scenario(text_or_mapping: str | Mapping[str, Any], *, source: str = "<string>") -> Scenario:
+    """Validate and type a scenario given as TOML text or as an already-parsed mapping.
+
+    Parameters
+    ----------
+    text_or_mapping : str or Mapping
+        TOML text, or a mapping shaped like the parsed TOML.
+    source : str, optional
+        Label used as the file name in error messages.
+
+    Returns
+    -------
+    Scenario
+        ``source_sha256`` is the SHA-256 of the UTF-8 text (None for a mapping);
+        ``source_path`` is None (set by :func:`load_scenario`).
+
+    Raises
+    ------
+    ScenarioError
+        On the first problem found.  Sections are read in file order and keys in file order
+        within a table; cross-references (correlations, tests) are checked last.
+
+    Notes
+    -----
+    Values are only read, never evaluated: TOML is data, and no string becomes code.
+    """
+    sha = None
+    if isinstance(text_or_mapping, str):
+        sha = hashlib.sha256(text_or_mapping.encode("utf-8")).hexdigest()
+        try:
+            doc = tomllib.loads(text_or_mapping)
+        except tomllib.TOMLDecodeError as exc:
+            raise ScenarioError(source, None, expected=f"valid TOML ({exc})") from exc
+        except ValueError as exc:  # tomllib lets int()'s digit limit (4300 digits) through
+            raise ScenarioError(source, None, expected=f"TOML that Python can read ({exc})") from exc
+    elif isinstance(text_or_mapping, Mapping):
+        doc = text_or_mapping
+    else:
+        raise TypeError(f"parse_scenario() takes TOML text or a mapping, not {type(text_or_mapping).__name__}")
+    scenario = _Reader(source).scenario(doc)
+    return replace(scenario, source_sha256=sha)
+
+
+# =============================================================================== ranges
+@dataclass(frozen=True)
+class _Range:
+    """Physical range of a numeric field and how to word it."""
+
+    what: str
+    lo: float = -math.inf
+    hi: float = math.inf
+    lo_open: bool = True
+    hi_open: bool = True
+    allow_inf: bool = False  # a fixed +inf is accepted ("never", "no limit")
+
+    def interval(self) -> str:
+        return (("(" if self.lo_open else "[") + _num(self.lo) + ", " + _num(self.hi)
+                + (")" if self.hi_open else "]"))
+
+    def holds(self, x: float) -> bool:
+        above = x > self.lo if self.lo_open else x >= self.lo
+        below = x < self.hi if self.hi_open else x <= self.hi
+        return above and below
+
+    def holds_support(self, lo: float, hi: float) -> bool:
+        # A continuous distribution has no mass at a single point, so its support may touch an
+        # open end of the range.
+        return lo >= self.lo and hi <= self.hi
+
+    def suggestion(self) -> str:
+        if math.isfinite(self.lo) and math.isfinite(self.hi):
+            return (f'a bounded distribution, e.g. {{dist = "truncnormal", mean = ..., sd = ..., '
+                    f'low = {_num(self.lo)}, high = {_num(self.hi)}}} or {{dist = "pert", min = ..., mode = ..., max = ...}}')
+        if math.isfinite(self.lo):
+            alt = '{dist = "lognormal", median = ..., log_sd = ...} or ' if self.lo == 0 else ""
+            return f'{alt}{{dist = "truncnormal", mean = ..., sd = ..., low = {_num(self.lo)}}}'
+        return f'{{dist = "truncnormal", mean = ..., sd = ..., high = {_num(self.hi)}}}'
+
+
+def _num(x: float) -> str:
+    if math.isinf(x):
+        return "inf" if x > 0 else "-inf"
+    return f"{x:g}"
+
+
+_INF = math.inf
+EFFICIENCY = _Range("an efficiency", 0.0, 1.0, True, False)
+NONNEG_W = _Range("a power [W]", 0.0, lo_open=False)  # 0 W: e.g. a sensor-free ferry leg
+POSITIVE_M = _Range("a length [m]", 0.0)
+POSITIVE_M2 = _Range("an area [m^2]", 0.0)
+POSITIVE_COEFF = _Range("a coefficient", 0.0)
+POSITIVE_KM = _Range("a length [km]", 0.0)
+POSITIVE_WH = _Range("an energy [Wh]", 0.0)
+POSITIVE_N = _Range("a net buoyancy [N]", 0.0)
+POSITIVE_SPEED = _Range("a speed through water [m/s]", 0.0)
+NONNEG_J = _Range("an energy [J]", 0.0, lo_open=False)
+NONNEG_S = _Range("a time [s]", 0.0, lo_open=False)
+NONNEG_DAYS = _Range("a time [days]", 0.0, lo_open=False)
+NONNEG_DEPTH = _Range("a depth [m]", 0.0, lo_open=False)
+POSITIVE_DEPTH = _Range("a depth [m]", 0.0, allow_inf=True)
+POSITIVE_DAYS = _Range("a duration [days]", 0.0, allow_inf=True)
+APPENDAGE = _Range("an appendage factor (appendages only add drag; to calibrate below the bare-hull estimate give [vehicle.drag])",
+                   1.0, lo_open=False)
+FRACTION_OPEN0_CLOSED1 = _Range("a fraction", 0.0, 1.0, True, False)
+FRACTION_CLOSED0_OPEN1 = _Range("a fraction", 0.0, 1.0, False, True)
+FADE = _Range("a capacity fade [1/day]", 0.0, 0.05, False, True)
+NONNEG_FRACTION = _Range("a fractional increase", 0.0, lo_open=False)
+GROWTH = _Range("a fouling clock rate", 0.0, lo_open=False)
+GLIDE_ANGLE = _Range("a glide angle [deg]", 0.0, 90.0)
+CURRENT = _Range("a current component [m/s]")
+TEMPERATURE = _Range("an in-situ seawater temperature [degC]", -3.0, 40.0, False, False)
+SALINITY = _Range("a practical salinity (PSS-78)", 0.0, 42.0, True, False)
+PROBABILITY = _Range("a probability", 0.0, 1.0)
+MONEY = _Range("an amount of money", 0.0, lo_open=False)
+CORRELATION = _Range("a rank correlation", -1.0, 1.0)
+
+_LEG_NAME = re.compile(r"[A-Za-z0-9_-]+")
+_PLAIN_KEY = re.compile(r"[A-Za-z0-9_-]+")
+_CURRENCY = re.compile(r"[A-Z]{3}")
+SCHEMES = ("sobol", "monte-carlo", "latin-hypercube")
+DRAG_REFERENCES = ("frontal", "wetted", "volume^(2/3)")
+VEHICLE_KINDS = ("propeller", "glider")
+
+
+def _join(path: str, key: Any) -> str:
+    key = str(key)
+    part = key if _PLAIN_KEY.fullmatch(key) else repr(key)
+    return f"{path}.{part}" if path else part
+
+
+def _is_number(x: Any) -> bool:
+    return isinstance(x, (int, float, np.integer, np.floating)) and not isinstance(x, (bool, np.bool_))
+
+
+# =============================================================================== reader
+#: A field reader: (reader, value, key path) -> parsed value.
+_FieldFn = Callable[["_Reader", Any, str], Any]
+
+
+class _Reader:
+    """One pass over a parsed TOML document; raises the first problem found."""
+
+    def __init__(self, file: str):
+        self.file = file
+        self.inputs: list[Marginal] = []
+        self.fixed: set[str] = set()
+
+    def fail(self, key: str | None, value: Any, expected: str, suggestion: str | None = None):
+        raise ScenarioError(self.file, key, value, expected, suggestion)
+
+    # ------------------------------------------------------------------ generic pieces
+    def table(self, value: Any, path: str, *, how: str | None = None) -> Mapping[str, Any]:
+        if not isinstance(value, Mapping):
+            self.fail(path, value, how or f"a table [{path}]")
+        return value
+
+    def read_fields(self, table: Mapping[str, Any], path: str, fields: Mapping[str, _FieldFn],
+                    required: tuple[str, ...] = (), *, other_kind: Mapping[str, str] | None = None,
+                    skip: tuple[str, ...] = ()) -> dict[str, Any]:
+        """Parse the keys of ``table`` in file order; unknown keys and missing required fail."""
+        out: dict[str, Any] = {}
+        for key, value in table.items():
+            if key in skip:
+                continue
+            if key not in fields:
+                self.unknown(key, value, path, list(fields) + list(skip), other_kind=other_kind)
+            out[key] = fields[key](self, value, _join(path, key))
+        for key in required:
+            if key not in out:
+                self.fail(_join(path, key), MISSING, f"a value for required key '{key}' in [{path}]")
+        return out
+
+    def unknown(self, key: str, value: Any, path: str, known: list[str], *,
+                other_kind: Mapping[str, str] | None = None):
+        close = difflib.get_close_matches(str(key), known, n=1, cutoff=0.6)
+        where = f"[{path}]" if path else "the top level"
+        if other_kind and key in other_kind:
+            expected = f"a key of {where} ({key!r} belongs to {other_kind[key]})"
+            close = []
+        else:
+            expected = f"a known key of {where} (one of: {', '.join(known)})"
+        self.fail(_join(path, key), value, expected, close[0] if close else None)
+
+    # ------------------------------------------------------------------ scalar fields
+    def number(self, value: Any, path: str, rng: _Range, *, uncertain: bool = True) -> Any:
+        if isinstance(value, Mapping):
+            if not uncertain:
+                self.fail(path, value, "a plain number (distributions are not allowed here)")
+            return self.distribution(value, path, rng)
+        self.check_plain_number(value, path, rng, uncertain=uncertain)
+        x = float(value)
+        if rng.allow_inf and x == _INF:
+            self.fixed.add(path)
+            return x
+        if not math.isfinite(x):
+            self.fail(path, value, f"a finite number ({rng.what} in {rng.interval()})")
+        if not rng.holds(x):
+            self.fail(path, value, f"{rng.what} in {rng.interval()}")
+        self.fixed.add(path)
+        return x
+
+    def check_plain_number(self, value: Any, path: str, rng: _Range, *, uncertain: bool) -> None:
+        alt = " or a distribution table {dist = ...}" if uncertain else ""
+        if isinstance(value, (bool, np.bool_)):
+            self.fail(path, value, f"a number{alt} (true/false is not a number)")
+        if isinstance(value, str):
+            self.fail(path, value, f"a number{alt}, not a string ({rng.what} in {rng.interval()})")
+        if not _is_number(value):
+            self.fail(path, value, f"a number{alt} ({rng.what} in {rng.interval()})")
+        try:
+            x = float(value)
+        except OverflowError:  # an integer beyond the float range (TOML integers are unbounded)
+            self.fail(path, value, f"a finite number ({rng.what} in {rng.interval()})")
+        if math.isnan(x):
+            self.fail(path, value, f"a number, not nan ({rng.what} in {rng.interval()})")
+
+    def distribution(self, value: Mapping[str, Any], path: str, rng: _Range) -> Marginal:
+        marginal = parse_distribution(value, name=path, unit=unit_from_key(path), file=self.file)
+        lo, hi = marginal.support
+        if not rng.holds_support(lo, hi):
+            fix = (f"narrow it to lie within {rng.interval()}" if math.isfinite(lo) and math.isfinite(hi)
+                   else f"use {rng.suggestion()}")
+            self.fail(path, dict(value),
+                      f"{rng.what} in {rng.interval()}, but {marginal.describe()} has support "
+                      f"[{_num(lo)}, {_num(hi)}] which leaves it; {fix}")
+        self.inputs.append(marginal)
+        return marginal
+
+    def integer(self, value: Any, path: str, *, minimum: int, what: str) -> int:
+        if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, np.integer)):
+            self.fail(path, value, f"an integer ({what})")
+        if value < minimum:
+            self.fail(path, value, f"an integer >= {minimum} ({what})")
+        return int(value)
+
+    def text(self, value: Any, path: str, *, what: str, nonempty: bool = True) -> str:
+        if not isinstance(value, str):
+            self.fail(path, value, f"a string ({what})")
+        if nonempty and not value.strip():
+            self.fail(path, value, f"a non-empty string ({what})")
+        return value
+
+    def choice(self, value: Any, path: str, options: tuple[str, ...], *, what: str) -> str:
+        if not isinstance(value, str) or value not in options:
+            close = (difflib.get_close_matches(value, list(options), n=1, cutoff=0.6)
+                     if isinstance(value, str) else [])
+            self.fail(path, value, f"{what}: one of " + ", ".join(repr(o) for o in options),
+                      close[0] if close else None)
+        return value
+
+    def name_list(self, value: Any, path: str, *, length: int | None = None) -> tuple[str, ...]:
+        need = f"a list of exactly {length} input names" if length else "a non-empty list of input names"
+        if not isinstance(value, (list, tuple)) or not value:
+            self.fail(path, value, f"{need} (dotted paths such as 'battery.cold_derating')")
+        if length is not None and len(value) != length:
+            self.fail(path, value, need)
+        for item in value:
+            if not isinstance(item, str):
+                self.fail(path, value, f"{need}; {item!r} is not a string")
+        if len(set(value)) != len(value):
+            self.fail(path, value, f"{need} without repeats")
+        return tuple(value)
+
+    def check_name(self, name: str, path: str) -> None:
+        """``name`` must be an uncertain input of this scenario."""
+        known = [m.name for m in self.inputs]
+        if name in known:
+            return
+        if name in self.fixed:
+            self.fail(path, name, f"the name of an uncertain input ({name!r} is a fixed number in this scenario)")
+        close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
+        self.fail(path, name, "the name of an uncertain input of this scenario", close[0] if close else None)
+
+    def below(self, a: Any, a_path: str, b: Any, b_path: str, *, blame: str, relation: str) -> None:
+        """Require a < b for every possible value (support-wise for distributions).
+
+        ``blame`` is the path reported ("a" or "b" side); ``relation`` words the expectation.
+        """
+        a_hi = a.support[1] if isinstance(a, Marginal) else float(a)
+        b_lo = b.support[0] if isinstance(b, Marginal) else float(b)
+        both_fixed = not isinstance(a, Marginal) and not isinstance(b, Marginal)
+        if a_hi > b_lo or (a_hi == b_lo and both_fixed):
+            if blame == "a":
+                key, value, other, bound = a_path, a, b, f"as small as {_num(b_lo)}"
+            else:
+                key, value, other, bound = b_path, b, a, f"as large as {_num(a_hi)}"
+            shown = value.describe() if isinstance(value, Marginal) else value
+            if isinstance(other, Marginal):
+                relation += f" (which is {other.describe()}, {bound})"
+            else:
+                relation += f" = {_num(float(other))}"
+            self.fail(key, shown, relation)
+
+    # ------------------------------------------------------------------ document
+    _SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "fouling", "limits", "legs",
+                 "correlations", "decision", "analysis")
+    _REQUIRED_SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "legs")
+
+    def scenario(self, doc: Mapping[str, Any]) -> Scenario:
+        for key, value in doc.items():
+            if key not in self._SECTIONS:
+                self.unknown(key, value, "", list(self._SECTIONS))
+        for key in self._REQUIRED_SECTIONS:
+            if key not in doc:
+                how = "at least one [[legs]] table" if key == "legs" else f"a [{key}] section"
+                self.fail(key, MISSING, how)
+        vehicle_table = self.table(doc["vehicle"], "vehicle")
+        kind = self.choice(vehicle_table.get("kind", MISSING), "vehicle.kind", VEHICLE_KINDS,
+                           what="the vehicle kind, stated explicitly (never guessed from the keys)")
+
+        parsed: dict[str, Any] = {}
+        for key, value in doc.items():
+            if key == "scenario":
+                parsed[key] = self.header(value)
+            elif key == "vehicle":
+                parsed[key] = self.vehicle(vehicle_table, kind)
+            elif key == "battery":
+                parsed[key] = self.battery(value)
+            elif key == "setpoint":
+                parsed[key] = self.setpoint(value, kind)
+            elif key == "fouling":
+                parsed[key] = self.fouling(value)
+            elif key == "limits":
+                parsed[key] = self.limits(value)
+            elif key == "legs":
+                parsed[key] = self.legs(value)
+            elif key == "correlations":
+                parsed[key] = self.correlations_raw(value)
+            elif key == "decision":
+                parsed[key] = self.decision(value)
+            elif key == "analysis":
+                parsed[key] = self.analysis(value)
+
+        if kind == "glider":
+            self.glider_windows(parsed["setpoint"], parsed["legs"])
+        correlations = self.correlations_check(parsed.get("correlations", ()))
+        decision: Decision = parsed.get("decision", Decision())
+        for i, test in enumerate(decision.tests):
+            for name in test.inputs:
+                self.check_name(name, f"decision.tests[{i}].inputs")
+        name, description = parsed["scenario"]
+        return Scenario(
+            name=name,
+            description=description,
+            vehicle=parsed["vehicle"],
+            battery=parsed["battery"],
+            setpoint=parsed["setpoint"],
+            fouling=parsed.get("fouling", Fouling()),
+            legs=parsed["legs"],
+            limits=parsed.get("limits", Limits()),
+            decision=decision,
+            analysis=parsed.get("analysis", Analysis()),
+            correlations=correlations,
+            inputs=tuple(self.inputs),
+        )
+
+    def header(self, value: Any) -> tuple[str, str]:
+        table = self.table(value, "scenario")
+        fields = {
+            "name": lambda r, v, p: r.text(v, p, what="the scenario name"),
+            "description": lambda r, v, p: r.text(v, p, what="a description", nonempty=False),
+        }
+        out = self.read_fields(table, "scenario", fields, ("name",))
+        return out["name"], out.get("description", "")
+
+    # ------------------------------------------------------------------ vehicle
+    def vehicle(self, table: Mapping[str, Any], kind: str) -> PropellerVehicle | GliderVehicle:
+        common = {
+            "name": lambda r, v, p: r.text(v, p, what="the vehicle name"),
+            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
+        }
+        propeller = {
+            "propulsive_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
+            "hull": lambda r, v, p: r.hull(v, p),
+            "drag": lambda r, v, p: r.drag(v, p),
+        }
+        glider = {
+            "pump_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
+            "inflection_energy_J": lambda r, v, p: r.number(v, p, NONNEG_J),
+            "inflection_time_s": lambda r, v, p: r.number(v, p, NONNEG_S),
+            "polar": lambda r, v, p: r.polar(v, p),
+        }
+        mine, theirs, other = (propeller, glider, "glider") if kind == "propeller" else (glider, propeller, "propeller")
+        other_kind = {k: f"kind = {other!r}" for k in theirs}
+        if kind == "propeller":
+            out = self.read_fields(table, "vehicle", {**common, **mine},
+                                   ("name", "hotel_load_W", "propulsive_efficiency"),
+                                   other_kind=other_kind, skip=("kind",))
+            given = [k for k in table if k in ("hull", "drag")]
+            if not given:
+                self.fail("vehicle.hull", MISSING,
+                          "exactly one of [vehicle.hull] (geometry) or [vehicle.drag] (C_D with its reference area)")
+            if len(given) > 1:
+                self.fail(f"vehicle.{given[1]}", table[given[1]],
+                          "exactly one of [vehicle.hull] or [vehicle.drag], not both")
+            drag = out.pop(given[0])
+            return PropellerVehicle(drag=drag, **out)
+        out = self.read_fields(table, "vehicle", {**common, **mine},
+                               ("name", "hotel_load_W", "pump_efficiency", "polar"),
+                               other_kind=other_kind, skip=("kind",))
+        return GliderVehicle(**out)
+
+    def hull(self, value: Any, path: str) -> HullGeometry:
+        table = self.table(value, path)
+        fields = {
+            "length_m": lambda r, v, p: r.number(v, p, POSITIVE_M),
+            "diameter_m": lambda r, v, p: r.number(v, p, POSITIVE_M),
+            "appendage_factor": lambda r, v, p: r.number(v, p, APPENDAGE),
+            "wetted_area_m2": lambda r, v, p: r.number(v, p, POSITIVE_M2),
+        }
+        out = self.read_fields(table, path, fields, ("length_m", "diameter_m"))
+        self.below(out["diameter_m"], f"{path}.diameter_m", out["length_m"], f"{path}.length_m",
+                   blame="a", relation=f"a diameter smaller than {path}.length_m")
+        return HullGeometry(**out)
+
+    def drag(self, value: Any, path: str) -> DragCoefficient:
+        table = self.table(value, path)
+        fields = {
+            "coefficient": lambda r, v, p: r.number(v, p, _Range("a drag coefficient", 0.0)),
+            "reference_area_m2": lambda r, v, p: r.number(v, p, POSITIVE_M2),
+            "reference": lambda r, v, p: r.choice(v, p, DRAG_REFERENCES, what="the area the coefficient refers to"),
+        }
+        out = self.read_fields(table, path, fields, ("coefficient", "reference_area_m2", "reference"))
+        return DragCoefficient(**out)
+
+    def polar(self, value: Any, path: str) -> GliderPolar:
+        table = self.table(value, path)
+        fields = {
+            "reference_area_m2": lambda r, v, p: r.number(v, p, POSITIVE_M2),
+            "zero_lift_drag": lambda r, v, p: r.number(v, p, _Range("a zero-lift drag coefficient", 0.0)),
+            "max_lift_coefficient": lambda r, v, p: r.number(v, p, _Range("a maximum lift coefficient", 0.0)),
+            "induced_drag_factor": lambda r, v, p: r.number(v, p, _Range("an induced-drag factor K", 0.0)),
+            "aspect_ratio": lambda r, v, p: r.number(v, p, _Range("an aspect ratio", 0.0)),
+            "span_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
+        }
+        out = self.read_fields(table, path, fields,
+                               ("reference_area_m2", "zero_lift_drag", "max_lift_coefficient"))
+        given = [k for k in table if k in ("induced_drag_factor", "aspect_ratio")]
+        if not given:
+            self.fail(f"{path}.induced_drag_factor", MISSING,
+                      "exactly one of induced_drag_factor (K) or aspect_ratio (with span_efficiency)")
+        if len(given) > 1:
+            self.fail(f"{path}.{given[1]}", table[given[1]],
+                      "exactly one of induced_drag_factor or aspect_ratio, not both")
+        if "span_efficiency" in out and given[0] != "aspect_ratio":
+            self.fail(f"{path}.span_efficiency", table["span_efficiency"],
+                      "span_efficiency only together with aspect_ratio (K = 1/(pi e AR)); "
+                      "with induced_drag_factor it has no effect")
+        return GliderPolar(**out)
+
+    # ------------------------------------------------------------------ other sections
+    def battery(self, value: Any) -> Battery:
+        table = self.table(value, "battery")
+        fields = {
+            "nominal_energy_Wh": lambda r, v, p: r.number(v, p, POSITIVE_WH),
+            "cold_derating": lambda r, v, p: r.number(v, p, FRACTION_OPEN0_CLOSED1),
+            "fade_per_day": lambda r, v, p: r.number(v, p, FADE),
+            "usable_fraction": lambda r, v, p: r.number(v, p, FRACTION_OPEN0_CLOSED1),
+            "reserve_fraction": lambda r, v, p: r.number(v, p, FRACTION_CLOSED0_OPEN1),
+        }
+        return Battery(**self.read_fields(table, "battery", fields, ("nominal_energy_Wh",)))
+
+    def setpoint(self, value: Any, kind: str) -> PropellerSetpoint | GliderSetpoint:
+        table = self.table(value, "setpoint")
+        propeller = {
+            "speed_m_s": lambda r, v, p: r.number(v, p, POSITIVE_SPEED),
+            "depth_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
+        }
+        glider = {
+            "glide_angle_deg": lambda r, v, p: r.number(v, p, GLIDE_ANGLE),
+            "net_buoyancy_N": lambda r, v, p: r.number(v, p, POSITIVE_N),
+            "top_depth_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
+            "bottom_depth_m": lambda r, v, p: r.number(v, p, _Range("a depth [m]", 0.0)),
+        }
+        if kind == "propeller":
+            other = {k: "a glider's [setpoint]" for k in glider}
+            out = self.read_fields(table, "setpoint", propeller, ("speed_m_s",), other_kind=other)
+            return PropellerSetpoint(**out)
+        other = {k: "a propeller vehicle's [setpoint]" for k in propeller}
+        out = self.read_fields(table, "setpoint", glider, tuple(glider), other_kind=other)
+        self.below(out["top_depth_m"], "setpoint.top_depth_m", out["bottom_depth_m"], "setpoint.bottom_depth_m",
+                   blame="b", relation="a bottom depth deeper than setpoint.top_depth_m")
+        return GliderSetpoint(**out)
+
+    def fouling(self, value: Any) -> Fouling:
+        table = self.table(value, "fouling")
+        fields = {
+            "onset_days": lambda r, v, p: r.number(v, p, NONNEG_DAYS),
+            "time_constant_days": lambda r, v, p: r.number(v, p, POSITIVE_DAYS),
+            "drag_increase": lambda r, v, p: r.number(v, p, NONNEG_FRACTION),
+            "lift_loss": lambda r, v, p: r.number(v, p, FRACTION_CLOSED0_OPEN1),
+        }
+        return Fouling(**self.read_fields(table, "fouling", fields))
+
+    def limits(self, value: Any) -> Limits:
+        table = self.table(value, "limits")
+        fields = {"max_duration_days": lambda r, v, p: r.number(v, p, POSITIVE_DAYS)}
+        return Limits(**self.read_fields(table, "limits", fields))
+
+    def legs(self, value: Any) -> tuple[Leg, ...]:
+        if not isinstance(value, (list, tuple)):
+            self.fail("legs", value, "an array of tables [[legs]]")
+        if not value:
+            self.fail("legs", value, "at least one [[legs]] table (the route is empty)")
+        fields = {
+            "length_km": lambda r, v, p: r.number(v, p, POSITIVE_KM),
+            "current_along_m_s": lambda r, v, p: r.number(v, p, CURRENT),
+            "current_across_m_s": lambda r, v, p: r.number(v, p, CURRENT),
+            "temperature_C": lambda r, v, p: r.number(v, p, TEMPERATURE),
+            "practical_salinity": lambda r, v, p: r.number(v, p, SALINITY),
+            "ice_ceiling_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
+            "seabed_m": lambda r, v, p: r.number(v, p, POSITIVE_DEPTH),
+            "fouling_growth_factor": lambda r, v, p: r.number(v, p, GROWTH),
+            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
+        }
+        seen: dict[str, int] = {}
+        legs = []
+        for i, item in enumerate(value):
+            table = self.table(item, f"legs[{i}]", how="a [[legs]] table")
+            name = table.get("name", MISSING)
+            if name is MISSING:
+                self.fail(f"legs[{i}].name", MISSING, "a leg name (letters, digits, _ and -)")
+            if not isinstance(name, str) or not _LEG_NAME.fullmatch(name):
+                self.fail(f"legs[{i}].name", name, "a leg name of letters, digits, _ and - only")
+            if name in seen:
+                self.fail(f"legs[{i}].name", name, f"a unique leg name (legs[{seen[name]}] is already {name!r})")
+            seen[name] = i
+            path = f"legs.{name}"
+            out = self.read_fields(table, path, {"name": lambda r, v, p: v, **fields}, ("length_km",))
+            leg = Leg(**out)
+            self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", leg.seabed_m, f"{path}.seabed_m",
+                       blame="b", relation=f"a seabed deeper than {path}.ice_ceiling_m")
+            legs.append(leg)
+        return tuple(legs)
+
+    def glider_windows(self, setpoint: GliderSetpoint, legs: tuple[Leg, ...]) -> None:
+        """Each leg must leave room to glide between the shallow and the deep limit."""
+        for leg in legs:
+            path = f"legs.{leg.name}"
+            self.below(setpoint.top_depth_m, "setpoint.top_depth_m", leg.seabed_m, f"{path}.seabed_m",
+                       blame="b", relation="a seabed deeper than setpoint.top_depth_m (no room to glide)")
+            self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", setpoint.bottom_depth_m,
+                       "setpoint.bottom_depth_m", blame="a",
+                       relation="an ice ceiling shallower than setpoint.bottom_depth_m (no room to glide)")
+
+    def correlations_raw(self, value: Any) -> list[tuple[int, tuple[str, str], float]]:
+        if not isinstance(value, (list, tuple)):
+            self.fail("correlations", value, "an array of tables [[correlations]]")
+        fields = {
+            "inputs": lambda r, v, p: r.name_list(v, p, length=2),
+            "rank": lambda r, v, p: r.number(v, p, CORRELATION, uncertain=False),
+        }
+        out = []
+        for i, item in enumerate(value):
+            path = f"correlations[{i}]"
+            table = self.table(item, path, how="a [[correlations]] table")
+            got = self.read_fields(table, path, fields, ("inputs", "rank"))
+            out.append((i, got["inputs"], got["rank"]))
+        return out
+
+    def correlations_check(self, raw: list[tuple[int, tuple[str, str], float]]) -> tuple[RankCorrelation, ...]:
+        order = [m.name for m in self.inputs]
+        seen: dict[frozenset[str], int] = {}
+        for i, (a, b), _ in raw:
+            for name in (a, b):
+                self.check_name(name, f"correlations[{i}].inputs")
+            pair = frozenset((a, b))
+            if pair in seen:
+                self.fail(f"correlations[{i}].inputs", [a, b],
+                          f"each pair once (already in correlations[{seen[pair]}])")
+            seen[pair] = i
+        if not raw:
+            return ()
+        involved = sorted({n for _, pair, _ in raw for n in pair}, key=order.index)
+        index = {n: k for k, n in enumerate(involved)}
+        rank = np.eye(len(involved))
+        for _, (a, b), r in raw:
+            rank[index[a], index[b]] = rank[index[b], index[a]] = r
+        # The rank matrix and the normal-copula matrix 2 sin(pi r / 6) (Pearson for normal
+        # scores with Spearman r) must both be positive definite.
+        for matrix, what in ((rank, "rank-correlation"),
+                             (2.0 * np.sin(np.pi * rank / 6.0), "normal-copula (2 sin(pi r/6))")):
+            smallest = float(np.linalg.eigvalsh(matrix)[0])
+            if smallest <= 1e-10:
+                self.fail("correlations", [r for _, _, r in raw],
+                          f"a positive-definite {what} matrix over {len(involved)} inputs "
+                          f"(smallest eigenvalue {smallest:.3g}); weaken or drop a correlation")
+        return tuple(RankCorrelation(inputs=pair, coefficient=r) for _, pair, r in raw)
+
+    def decision(self, value: Any) -> Decision:
+        table = self.table(value, "decision")
+        plain = lambda rng: (lambda r, v, p: r.number(v, p, rng, uncertain=False))  # noqa: E731
+        fields = {
+            "required_probability": plain(PROBABILITY),
+            "confidence": plain(PROBABILITY),
+            "currency": lambda r, v, p: r.currency(v, p),
+            "ship_day_rate": plain(MONEY),
+            "booking_quantile": plain(PROBABILITY),
+            "value_of_success": plain(MONEY),
+            "cost_of_failure": plain(MONEY),
+            "cost_of_no_go": plain(MONEY),
+            "tests": lambda r, v, p: r.tests(v, p),
+        }
+        return Decision(**self.read_fields(table, "decision", fields))
+
+    def currency(self, value: Any, path: str) -> str:
+        if not isinstance(value, str) or not _CURRENCY.fullmatch(value):
+            self.fail(path, value, "an ISO 4217 currency code of three capital letters, e.g. 'EUR'")
+        return value
+
+    def tests(self, value: Any, path: str) -> tuple[TestCandidate, ...]:
+        if not isinstance(value, (list, tuple)):
+            self.fail(path, value, "an array of tables [[decision.tests]]")
+        fields = {
+            "name": lambda r, v, p: r.text(v, p, what="the test's name"),
+            "cost": lambda r, v, p: r.number(v, p, MONEY, uncertain=False),
+            "inputs": lambda r, v, p: r.name_list(v, p),
+            "residual_fraction": lambda r, v, p: r.number(v, p, FRACTION_CLOSED0_OPEN1, uncertain=False),
+        }
+        seen: dict[str, int] = {}
+        out = []
+        for i, item in enumerate(value):
+            item_path = f"{path}[{i}]"
+            table = self.table(item, item_path, how="a [[decision.tests]] table")
+            got = self.read_fields(table, item_path, fields, ("name", "cost", "inputs"))
+            if got["name"] in seen:
+                self.fail(f"{item_path}.name", got["name"],
+                          f"a unique test name ({path}[{seen[got['name']]}] has it already)")
+            seen[got["name"]] = i
+            out.append(TestCandidate(**got))
+        return tuple(out)
+
+    def analysis(self, value: Any) -> Analysis:
+        table = self.table(value, "analysis")
+        fields = {
+            "samples": lambda r, v, p: r.integer(v, p, minimum=1, what="number of samples"),
+            "seed": lambda r, v, p: r.integer(v, p, minimum=0, what="random seed"),
+            "scheme": lambda r, v, p: r.choice(v, p, SCHEMES, what="the sampling scheme"),
+            "replicates": lambda r, v, p: r.integer(v, p, minimum=1, what="independent replicates"),
+            "sensitivity_base_n": lambda r, v, p: r.integer(v, p, minimum=2, what="Sobol' base sample size"),
+        }
+        out = self.read_fields(table, "analysis", fields)
+        result = Analysis(**out)
+        if result.scheme == "sobol" and not _power_of_two(result.samples):
+            self.fail("analysis.samples", result.samples,
+                      "a power of two for scheme = 'sobol' (scrambled Sobol' points need n = 2^m), e.g. "
+                      f"{_next_power_of_two(result.samples)}")
+        if not _power_of_two(result.sensitivity_base_n):
+            self.fail("analysis.sensitivity_base_n", result.sensitivity_base_n,
+                      "a power of two (the Sobol'-index design is built on Sobol' points), e.g. "
+                      f"{_next_power_of_two(result.sensitivity_base_n)}")
+        return result
+
+
+def _power_of_two(n: int) -> bool:
+    return n >= 1 and n & (n - 1) == 0
+
+
+def _next_power_of_two(n: int) -> int:
+    return 1 << max(0, int(n - 1).bit_length())

@@ -1,0 +1,214 @@
+"""Typed, immutable scenario: what a planner wrote in the scenario file, validated once.
+
+A scenario keeps the file's own units (km, days, Wh, degrees) in field names that say them;
+conversion to SI happens in :mod:`uq.simulate`, at the boundary to :mod:`physics`.
+
+Any numeric field holds either a ``float`` (a fixed value) or a marginal distribution
+(:class:`uq.scenario.distributions.Marginal`) whose ``name`` is the dotted key path of the
+field, e.g. ``legs.shelf_crossing.current_along_m_s``. ``Scenario.inputs`` lists every
+uncertain field in file order; that order is the column order of every sample array.
+Instances come from :func:`uq.scenario.load_scenario` / :func:`uq.scenario.parse_scenario`.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Union
+
+from uq.scenario.distributions import Marginal
+
+__all__ = [
+    "Value", "HullGeometry", "DragCoefficient", "PropellerVehicle", "GliderPolar",
+    "GliderVehicle", "Battery", "PropellerSetpoint", "GliderSetpoint", "Fouling", "Leg",
+    "Limits", "TestCandidate", "Decision", "RankCorrelation", "Analysis", "Scenario",
+]
+
+
+#: A numeric field: a fixed number or a named marginal distribution.
+Value = Union[float, "Marginal"]
+
+
+@dataclass(frozen=True)
+class HullGeometry:
+    """Hull drag from geometry: ITTC-1957 friction x Hoerner form factor x appendage factor.
+
+    The drag coefficient is referenced to the wetted area; when ``wetted_area_m2`` is None the
+    prolate-spheroid area of the same length and diameter is used (a low estimate).
+    """
+
+    length_m: Value
+    diameter_m: Value
+    appendage_factor: Value = 1.0
+    wetted_area_m2: Value | None = None
+
+
+@dataclass(frozen=True)
+class DragCoefficient:
+    """Hull drag given directly (e.g. from a tow-tank test): C_D with its reference area."""
+
+    coefficient: Value
+    reference_area_m2: Value
+    reference: str  # "frontal" | "wetted" | "volume^(2/3)" - kept for the report
+
+
+@dataclass(frozen=True)
+class PropellerVehicle:
+    name: str
+    hotel_load_W: Value
+    propulsive_efficiency: Value
+    drag: HullGeometry | DragCoefficient
+    kind: str = field(default="propeller", init=False)
+
+
+@dataclass(frozen=True)
+class GliderPolar:
+    """Quadratic glide polar C_D = C_D0 + K C_L^2 on ``reference_area_m2``.
+
+    Exactly one of ``induced_drag_factor`` (K) or ``aspect_ratio`` (with ``span_efficiency``,
+    K = 1/(pi e AR)) is given.
+    """
+
+    reference_area_m2: Value
+    zero_lift_drag: Value
+    max_lift_coefficient: Value
+    induced_drag_factor: Value | None = None
+    aspect_ratio: Value | None = None
+    span_efficiency: Value = 1.0
+
+
+@dataclass(frozen=True)
+class GliderVehicle:
+    name: str
+    hotel_load_W: Value
+    pump_efficiency: Value
+    polar: GliderPolar
+    inflection_energy_J: Value = 0.0
+    inflection_time_s: Value = 0.0
+    kind: str = field(default="glider", init=False)
+
+
+@dataclass(frozen=True)
+class Battery:
+    nominal_energy_Wh: Value
+    cold_derating: Value = 1.0  # fraction of nominal kept in cold water (0, 1]
+    fade_per_day: Value = 0.0  # fraction of capacity lost per day [1/day]
+    usable_fraction: Value = 1.0  # depth-of-discharge / usable share (0, 1]
+    reserve_fraction: Value = 0.0  # policy: share of usable energy to arrive with [0, 1)
+
+
+@dataclass(frozen=True)
+class PropellerSetpoint:
+    speed_m_s: Value  # speed through water
+    depth_m: Value = 50.0  # operating depth, for seawater pressure only
+
+
+@dataclass(frozen=True)
+class GliderSetpoint:
+    glide_angle_deg: Value
+    net_buoyancy_N: Value
+    top_depth_m: Value
+    bottom_depth_m: Value
+
+
+@dataclass(frozen=True)
+class Fouling:
+    onset_days: Value = 0.0
+    time_constant_days: Value = float("inf")  # inf = never fouls
+    drag_increase: Value = 0.0  # fractional drag increase at full fouling
+    lift_loss: Value = 0.0  # fractional lift-slope loss at full fouling [0, 1)
+
+
+@dataclass(frozen=True)
+class Leg:
+    name: str
+    length_km: Value
+    current_along_m_s: Value = 0.0  # + following
+    current_across_m_s: Value = 0.0
+    temperature_C: Value = 10.0  # in-situ
+    practical_salinity: Value = 35.0  # PSS-78
+    ice_ceiling_m: Value = 0.0  # shallowest allowed depth (ice keel clearance)
+    seabed_m: Value = float("inf")  # deepest allowed depth (seabed less clearance)
+    fouling_growth_factor: Value = 1.0  # fouling clock rate on this leg
+    hotel_load_W: Value | None = None  # override of the vehicle hotel load
+
+
+@dataclass(frozen=True)
+class Limits:
+    max_duration_days: Value = float("inf")
+
+
+@dataclass(frozen=True)
+class TestCandidate:
+    """A laboratory or field test that could be funded before deployment.
+
+    ``cost`` in the scenario's currency (>= 0); ``inputs`` are the dotted names of the inputs
+    the test pins down; ``residual_fraction`` is the posterior sd / prior sd of each measured
+    input after the test (0 = exact, < 1).
+    """
+
+    __test__ = False  # not a pytest test class
+
+    name: str
+    cost: float
+    inputs: tuple[str, ...]  # dotted names of the inputs the test pins down
+    residual_fraction: float = 0.0  # share of prior spread left after the test [0, 1)
+
+
+@dataclass(frozen=True)
+class Decision:
+    required_probability: float = 0.9
+    confidence: float = 0.95
+    currency: str = "EUR"
+    ship_day_rate: float = 0.0
+    booking_quantile: float = 0.9
+    value_of_success: float | None = None
+    cost_of_failure: float | None = None
+    cost_of_no_go: float | None = None
+    tests: tuple[TestCandidate, ...] = ()
+
+
+@dataclass(frozen=True)
+class RankCorrelation:
+    inputs: tuple[str, str]
+    coefficient: float  # Spearman rank correlation in (-1, 1)
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """Default numerical settings of an assessment (the CLI may override them)."""
+
+    samples: int = 4096
+    seed: int = 20261201
+    scheme: str = "sobol"  # "sobol" | "monte-carlo" | "latin-hypercube"
+    replicates: int = 8  # independent scramblings for the RQMC interval
+    sensitivity_base_n: int = 512
+
+
+@dataclass(frozen=True)
+class Scenario:
+    name: str
+    description: str
+    vehicle: PropellerVehicle | GliderVehicle
+    battery: Battery
+    setpoint: PropellerSetpoint | GliderSetpoint
+    fouling: Fouling
+    legs: tuple[Leg, ...]
+    limits: Limits
+    decision: Decision
+    analysis: Analysis
+    correlations: tuple[RankCorrelation, ...] = ()
+    inputs: tuple["Marginal", ...] = ()  # every uncertain field, file order
+    source_path: str | None = None
+    source_sha256: str | None = None
+
+    @property
+    def input_names(self) -> tuple[str, ...]:
+        return tuple(m.name for m in self.inputs)
+
+    @property
+    def route_length_km(self) -> float:
+        """Route length at the median of each leg length [km]."""
+        return float(sum(_median(leg.length_km) for leg in self.legs))
+
+
+def _median(value: Value) -> float:
+    return float(value) if isinstance(value, (int, float)) else float(value.median)

@@ -1,0 +1,1072 @@
+"""Batch studies: many variants of one base scenario on shared samples, on any backend.
+
+A *study file* (TOML) names a base scenario and its variants, either as a ``[grid]`` of
+scenario fields and their values (every combination is a variant) or as explicit
+``[[variants]]`` with ``overrides``. Overrides are applied to the base scenario's raw TOML
+mapping *before* :func:`uq.scenario.parse_scenario`, so every variant is validated by the same
+reader as a scenario file, with the same one-line messages.
+
+Study file::
+
+    [study]
+    name = "speed-and-battery"            # required
+    description = "..."                   # optional
+    scenario = "under_ice_section.toml"   # required, relative to the study file
+    samples = 131072                      # optional; defaults from the scenario's [analysis]
+    seed = 20261203                       # optional
+    scheme = "sobol"                      # optional: sobol | monte-carlo | latin-hypercube
+    replicates = 8                        # optional, sobol only: samples / replicates = 2^m
+
+    [grid]                                # either a grid ...
+    "setpoint.speed_m_s" = [1.0, 1.2, 1.4]
+    "battery.nominal_energy_Wh" = [16000.0, 18000.0]
+
+    [[variants]]                          # ... or explicit variants (not both)
+    name = "heavy fouling"
+    overrides = {"fouling.drag_increase" = {dist = "pert", min = 0.3, mode = 0.5, max = 0.8}}
+
+A dotted path names one field of the base scenario: ``section.key``, ``vehicle.hull.key``, or
+``legs.<leg name>.key``. It must exist in the base scenario file (an optional field is varied
+by adding it there first); ``scenario.*`` and ``analysis.*`` cannot be overridden (the study
+sets the numerical settings for all variants). A value is anything the scenario accepts at
+that path: a number, a string, or a distribution table. When an override fixes a field that
+the base scenario had uncertain, the rank correlations and test-catalogue entries that name
+it are dropped from that variant (they would otherwise refer to an input that no longer
+exists).
+
+Common random numbers: one plan is drawn over the union of the variants' input names and
+each variant reads the columns of its inputs by name (:mod:`uq.studies`), through its own
+marginals and rank correlations. All variants are evaluated inside one task on the same
+block of the plan (one model call per variant per block), so a task's work is "one block x
+every variant" and the engine's chunking, executors and bit-for-bit invariance apply
+unchanged. With several RQMC replicates, one :func:`uq.sampling.engine.stream` runs per replicate;
+given an executor, the replicate streams are submitted together (from a small thread pool)
+so the workers are never idle between replicates.
+"""
+from __future__ import annotations
+
+from uq.errors import InputError
+
+import argparse
+import copy
+import dataclasses
+import difflib
+import hashlib
+import itertools
+import json
+import math
+import os
+import shutil
+import sys
+import tempfile
+import threading
+import time
+import tomllib
+from collections.abc import Mapping
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable, Sequence
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from uq import decisions, estimators
+from uq.studies.assess import package_versions
+from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, SumReducer, stream
+from uq.sampling.plans import SampleDesign
+from uq.scenario import MISSING, Scenario, ScenarioError, parse_scenario
+from uq.simulate import ScenarioModel, nominal
+from uq.studies.sweeps import columns_for, inputs_from_shared, shared_copula
+
+__all__ = [
+    "StudyFileError",
+    "VariantScenarioError",
+    "StudySettingsError",
+    "StudyOutputError",
+    "RANKING_ROWS",
+    "STUDY_BLOCK_SIZE",
+    "Variant",
+    "Study",
+    "load_study",
+    "parse_study",
+    "VariantResult",
+    "StudyResult",
+    "run_study",
+    "write_study",
+    "study_main",
+]
+
+#: Rows of the plan (pooled over replicates) on which input rankings are computed.
+RANKING_ROWS = 2**15
+#: Rows per streaming block of a study (part of a Monte Carlo plan's definition).
+STUDY_BLOCK_SIZE = 2**12
+#: Largest number of variants a study may expand to.
+MAX_VARIANTS = 10_000
+
+_SCHEMES = ("sobol", "monte-carlo", "latin-hypercube")
+_FORBIDDEN_SECTIONS = {
+    "scenario": "the scenario's name and description are not study variables",
+    "analysis": "the study's [study] samples, seed and scheme apply to every variant",
+    "correlations": "rank correlations are not addressable by a dotted path",
+}
+_RANKING_LABEL = "largest |Spearman rank correlation| between an input and the energy margin"
+
+
+# =============================================================================== errors
+class StudyFileError(ScenarioError):
+    """A study file is invalid. ``str(error)`` is one line, in the scenario-file style::
+
+        <file>: <key.path> = <value!r>: expected <what>[; did you mean 'x'?]
+    """
+
+    def __reduce__(self):
+        return (StudyFileError, (self.file, self.key, self.value, self.expected, self.suggestion))
+
+
+class VariantScenarioError(StudyFileError):
+    """A variant's scenario (base scenario plus the variant's overrides) is invalid.
+
+    ``str(error)`` is ``<study file>: variant '<name>': <the scenario's one-line error>``.
+    ``cause`` is the :class:`uq.scenario.ScenarioError`.
+    """
+
+    def __init__(self, file: str, variant: str, cause: ScenarioError):
+        self.variant = variant
+        self.cause = cause
+        ValueError.__init__(self, f"{file}: variant {variant!r}: {cause}")
+        self.file, self.key, self.value = str(file), cause.key, cause.value
+        self.expected, self.suggestion = cause.expected, cause.suggestion
+
+    def __reduce__(self):
+        return (VariantScenarioError, (self.file, self.variant, self.cause))
+
+
+class StudySettingsError(InputError):
+    """Numerical settings passed to :func:`run_study` are invalid (names value and need)."""
+
+
+class StudyOutputError(InputError):
+    """The output folder exists and ``overwrite`` was not given, or cannot be written."""
+
+
+# =============================================================================== study file
+@dataclass(frozen=True)
+class Variant:
+    """One configuration of the study: the base scenario with ``overrides`` applied."""
+
+    name: str
+    overrides: tuple[tuple[str, Any], ...]  # (dotted path, value as written)
+    scenario: Scenario
+
+
+@dataclass(frozen=True)
+class Study:
+    """A validated study file.
+
+    ``fields`` are the dotted paths the study varies (grid keys, or the union of the
+    override paths in order of first appearance); ``samples``, ``seed``, ``scheme`` and
+    ``replicates`` are the study's numerical settings (defaults from the base scenario).
+    """
+
+    name: str
+    description: str
+    source: str
+    scenario_path: str
+    scenario_sha256: str
+    samples: int
+    seed: int
+    scheme: str
+    replicates: int
+    fields: tuple[str, ...]
+    variants: tuple[Variant, ...]
+    layout: str  # "grid" | "variants"
+
+    @property
+    def input_names(self) -> tuple[str, ...]:
+        """Union of the variants' input names, in order of first appearance (plan columns)."""
+        union: list[str] = []
+        for v in self.variants:
+            union.extend(n for n in v.scenario.input_names if n not in union)
+        return tuple(union)
+
+
+def load_study(path: str | os.PathLike[str]) -> Study:
+    """Read and validate a study file and every variant's scenario.
+
+    Raises
+    ------
+    StudyFileError
+        The first problem in the study file, one line naming file, key, value and need.
+    VariantScenarioError
+        A variant's scenario is invalid (names the variant and the scenario's problem).
+    """
+    label = os.fspath(path)
+    try:
+        data = Path(label).read_bytes()
+    except OSError as exc:
+        raise StudyFileError(label, None, expected=f"a readable study file ({exc.strerror or exc})") from exc
+    try:
+        doc = tomllib.loads(data.decode("utf-8"))
+    except UnicodeDecodeError as exc:
+        raise StudyFileError(label, None, expected=f"UTF-8 text ({exc.reason} at byte {exc.start})") from exc
+    except tomllib.TOMLDecodeError as exc:
+        raise StudyFileError(label, None, expected=f"valid TOML ({exc})") from exc
+    return parse_study(doc, source=label, base_dir=Path(label).resolve().parent)
+
+
+def parse_study(doc: Mapping[str, Any], *, source: str = "<study>",
+                base_dir: str | os.PathLike[str] | None = None) -> Study:
+    """Validate a study given as a parsed TOML mapping (see the module docstring).
+
+    Parameters
+    ----------
+    doc : Mapping
+        The parsed study file.
+    source : str
+        File name used in error messages.
+    base_dir : path-like, optional
+        Folder against which ``study.scenario`` is resolved (default: the working folder).
+    """
+    return _StudyReader(source, Path(base_dir) if base_dir is not None else Path.cwd()).study(doc)
+
+
+def _is_distribution(value: Any) -> bool:
+    return isinstance(value, Mapping) and "dist" in value
+
+
+def _short(value: Any) -> str:
+    """Compact text of an override value, for variant names and table cells."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, (int, float)):
+        return format(value, ".12g")
+    if _is_distribution(value):
+        params = ", ".join(f"{k}={_short(v)}" for k, v in value.items() if k != "dist")
+        return f"{value['dist']}({params})"
+    return str(value)
+
+
+class _StudyReader:
+    _TOP = ("study", "grid", "variants")
+    _STUDY_KEYS = ("name", "description", "scenario", "samples", "seed", "scheme", "replicates")
+
+    def __init__(self, file: str, base_dir: Path):
+        self.file = file
+        self.base_dir = base_dir
+
+    def fail(self, key, value, expected, suggestion=None):
+        raise StudyFileError(self.file, key, value, expected, suggestion)
+
+    def unknown(self, key, value, path, known):
+        close = difflib.get_close_matches(str(key), list(known), n=1, cutoff=0.6)
+        where = f"[{path}]" if path else "the top level"
+        self.fail(f"{path}.{key}" if path else str(key), value,
+                  f"a known key of {where} (one of: {', '.join(known)})", close[0] if close else None)
+
+    # ------------------------------------------------------------------ document
+    def study(self, doc: Mapping[str, Any]) -> Study:
+        for key, value in doc.items():
+            if key not in self._TOP:
+                self.unknown(key, value, "", self._TOP)
+        head = doc.get("study", MISSING)
+        if not isinstance(head, Mapping):
+            self.fail("study", head, "a [study] table with at least 'name' and 'scenario'")
+        for key, value in head.items():
+            if key not in self._STUDY_KEYS:
+                self.unknown(key, value, "study", self._STUDY_KEYS)
+        name = self.text(head.get("name", MISSING), "study.name", "the study name")
+        description = head.get("description", "")
+        if not isinstance(description, str):
+            self.fail("study.description", description, "a string (a description)")
+        base_path, base_doc, sha = self.base_scenario(head.get("scenario", MISSING))
+        try:
+            base = parse_scenario(base_doc, source=base_path)
+        except ScenarioError as exc:
+            self.fail("study.scenario", head["scenario"],
+                      f"a valid scenario file ({exc})")
+        samples, seed, scheme, replicates = self.settings(head, base)
+
+        has_grid, has_variants = "grid" in doc, "variants" in doc
+        if not has_grid and not has_variants:
+            self.fail("grid", MISSING, "the variants: a [grid] table or [[variants]] tables")
+        if has_grid and has_variants:
+            self.fail("variants", doc["variants"], "no [[variants]] next to a [grid] "
+                      "(give either a grid or explicit variants, not both)")
+        if has_grid:
+            fields, specs = self.grid(doc["grid"], base_doc)
+        else:
+            fields, specs = self.variant_tables(doc["variants"], base_doc)
+        variants = []
+        for vname, overrides in specs:
+            vdoc = _apply_overrides(base_doc, overrides)
+            try:
+                scenario = parse_scenario(vdoc, source=base_path)
+            except ScenarioError as exc:
+                raise VariantScenarioError(self.file, vname, exc) from exc
+            scenario = dataclasses.replace(scenario, source_path=base_path, source_sha256=sha)
+            variants.append(Variant(vname, tuple(overrides), scenario))
+        return Study(name=name, description=description, source=self.file,
+                     scenario_path=base_path, scenario_sha256=sha, samples=samples, seed=seed,
+                     scheme=scheme, replicates=replicates, fields=tuple(fields),
+                     variants=tuple(variants), layout="grid" if has_grid else "variants")
+
+    def text(self, value, path, what):
+        if not isinstance(value, str) or not value.strip():
+            self.fail(path, value, f"a non-empty string ({what})")
+        return value
+
+    def base_scenario(self, value) -> tuple[str, dict, str]:
+        self.text(value, "study.scenario", "path of the base scenario file, relative to the study file")
+        path = (self.base_dir / value) if not os.path.isabs(value) else Path(value)
+        try:
+            data = path.read_bytes()
+        except OSError as exc:
+            self.fail("study.scenario", value,
+                      f"a readable scenario file ({exc.strerror or exc}: {path})")
+        try:
+            doc = tomllib.loads(data.decode("utf-8"))
+        except (UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
+            self.fail("study.scenario", value, f"a scenario file of valid UTF-8 TOML ({exc})")
+        return str(path), doc, hashlib.sha256(data).hexdigest()
+
+    def settings(self, head, base: Scenario) -> tuple[int, int, str, int]:
+        a = base.analysis
+        samples = head.get("samples", a.samples)
+        seed = head.get("seed", a.seed)
+        scheme = head.get("scheme", a.scheme)
+        if isinstance(samples, bool) or not isinstance(samples, int) or samples < 2:
+            self.fail("study.samples", samples, "an integer >= 2 (number of samples per variant)")
+        if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0:
+            self.fail("study.seed", seed, "an integer >= 0 (random seed)")
+        if not isinstance(scheme, str) or scheme not in _SCHEMES:
+            close = difflib.get_close_matches(str(scheme), _SCHEMES, n=1, cutoff=0.6)
+            self.fail("study.scheme", scheme, "the sampling scheme: one of "
+                      + ", ".join(repr(s) for s in _SCHEMES), close[0] if close else None)
+        if "replicates" in head:
+            replicates = head["replicates"]
+            if isinstance(replicates, bool) or not isinstance(replicates, int) or replicates < 1:
+                self.fail("study.replicates", replicates, "an integer >= 1 (independent scramblings)")
+            if scheme != "sobol" and replicates != 1:
+                self.fail("study.replicates", replicates,
+                          f"1 for scheme = {scheme!r} (replicates are scramblings of a Sobol' plan)")
+        else:
+            replicates = a.replicates if scheme == "sobol" else 1
+        try:
+            _check_settings(samples, scheme, replicates)
+        except StudySettingsError as exc:
+            self.fail("study.samples", samples, str(exc))
+        return samples, seed, scheme, replicates
+
+    # ------------------------------------------------------------------ variants
+    def grid(self, table, base_doc) -> tuple[list[str], list[tuple[str, list]]]:
+        if not isinstance(table, Mapping) or not table:
+            self.fail("grid", table, "a non-empty [grid] table of dotted scenario fields = [values]")
+        entries = _flatten(table, "", leaf=lambda v: not isinstance(v, Mapping) or _is_distribution(v))
+        fields, lists = [], []
+        for path, values in entries:
+            key = f"grid.{_quote(path)}"
+            if not isinstance(values, list) or not values:
+                self.fail(key, values, "a non-empty list of values for the field")
+            self.check_path(path, key, base_doc, values)
+            shown = [_short(v) for v in values]
+            dup = next((s for i, s in enumerate(shown) if s in shown[:i]), None)
+            if dup is not None:
+                self.fail(key, values, f"a list of distinct values ({dup} is repeated)")
+            fields.append(path)
+            lists.append(values)
+        count = math.prod(len(v) for v in lists)
+        if count > MAX_VARIANTS:
+            self.fail("grid", f"{count} combinations", f"at most {MAX_VARIANTS} variants")
+        labels = _short_labels(fields)
+        specs = []
+        for combo in itertools.product(*lists):
+            name = ", ".join(f"{lab}={_short(v)}" for lab, v in zip(labels, combo))
+            specs.append((name, list(zip(fields, combo))))
+        return fields, specs
+
+    def variant_tables(self, value, base_doc) -> tuple[list[str], list[tuple[str, list]]]:
+        if not isinstance(value, list) or not value:
+            self.fail("variants", value, "one or more [[variants]] tables")
+        if len(value) > MAX_VARIANTS:
+            self.fail("variants", f"{len(value)} tables", f"at most {MAX_VARIANTS} variants")
+        known = ("name", "description", "overrides")
+        fields: list[str] = []
+        specs = []
+        seen: dict[str, int] = {}
+        for i, item in enumerate(value):
+            where = f"variants[{i}]"
+            if not isinstance(item, Mapping):
+                self.fail(where, item, "a [[variants]] table")
+            for key, v in item.items():
+                if key not in known:
+                    self.unknown(key, v, where, known)
+            name = self.text(item.get("name", MISSING), f"{where}.name", "the variant name")
+            if name in seen:
+                self.fail(f"{where}.name", name, f"a unique variant name (variants[{seen[name]}] has it)")
+            seen[name] = i
+            if not isinstance(item.get("description", ""), str):
+                self.fail(f"{where}.description", item["description"], "a string (a description)")
+            overrides = item.get("overrides", {})
+            if not isinstance(overrides, Mapping):
+                self.fail(f"{where}.overrides", overrides,
+                          "a table of dotted scenario fields = values, e.g. "
+                          "{\"setpoint.speed_m_s\" = 1.2}")
+            pairs = _flatten(overrides, "", leaf=lambda v: not isinstance(v, Mapping) or _is_distribution(v))
+            for path, v in pairs:
+                self.check_path(path, f"{where}.overrides.{_quote(path)}", base_doc, v)
+                if path not in fields:
+                    fields.append(path)
+            specs.append((name, pairs))
+        return fields, specs
+
+    def check_path(self, path: str, key: str, base_doc: Mapping, value: Any) -> None:
+        """The dotted ``path`` must name one existing field of the base scenario."""
+        parts = path.split(".")
+        head = parts[0]
+        if head in _FORBIDDEN_SECTIONS:
+            self.fail(key, value, f"a scenario field that a study may vary ({_FORBIDDEN_SECTIONS[head]})")
+        node: Any = base_doc
+        walked: list[str] = []
+        for i, part in enumerate(parts):
+            here = ".".join(walked) or "the base scenario"
+            if isinstance(node, list) and walked == ["legs"]:
+                names = [leg.get("name") for leg in node if isinstance(leg, Mapping)]
+                if part not in names:
+                    close = difflib.get_close_matches(part, [n for n in names if isinstance(n, str)], n=1)
+                    self.fail(key, value, f"a field of the base scenario: it has no leg {part!r} "
+                              f"(legs: {', '.join(map(str, names))})", close and close[0] or None)
+                node = node[names.index(part)]
+            elif isinstance(node, Mapping) and not _is_distribution(node):
+                if part not in node:
+                    close = difflib.get_close_matches(part, [str(k) for k in node], n=1, cutoff=0.6)
+                    self.fail(key, value,
+                              f"a field present in the base scenario ({path!r}: {here} has no "
+                              f"key {part!r}; to vary an optional field, add it to the base "
+                              f"scenario first)", close[0] if close else None)
+                node = node[part]
+            else:
+                self.fail(key, value, f"a dotted path to one field ({'.'.join(walked)} is a value, "
+                          f"not a table)")
+            walked.append(part)
+        if isinstance(node, list) or (isinstance(node, Mapping) and not _is_distribution(node)):
+            what = "a list of legs" if path == "legs" else "a table"
+            self.fail(key, value, f"a dotted path to one field ({path} is {what}; name a key in it)")
+
+
+def _quote(path: str) -> str:
+    return json.dumps(path) if "." in path else path
+
+
+def _flatten(table: Mapping, prefix: str, *, leaf: Callable[[Any], bool]) -> list[tuple[str, Any]]:
+    """``{"a": {"b": 1}, "c.d": 2}`` -> ``[("a.b", 1), ("c.d", 2)]`` (quoted or nested keys)."""
+    out = []
+    for key, value in table.items():
+        path = f"{prefix}.{key}" if prefix else str(key)
+        if leaf(value):
+            out.append((path, value))
+        else:
+            out.extend(_flatten(value, path, leaf=leaf))
+    return out
+
+
+def _short_labels(fields: Sequence[str]) -> list[str]:
+    """Shortest dotted suffix of each field that tells it apart from the others."""
+    labels = []
+    for f in fields:
+        parts = f.split(".")
+        for k in range(1, len(parts) + 1):
+            cand = ".".join(parts[-k:])
+            if all(not (o == cand or o.endswith("." + cand)) for o in fields if o != f):
+                labels.append(cand)
+                break
+        else:
+            labels.append(f)
+    return labels
+
+
+def _apply_overrides(base_doc: Mapping, overrides: Sequence[tuple[str, Any]]) -> dict:
+    """A deep copy of the raw scenario mapping with the overrides written in (paths checked)."""
+    doc = copy.deepcopy(dict(base_doc))
+    now_fixed = []
+    for path, value in overrides:
+        parts = path.split(".")
+        node: Any = doc
+        for i, part in enumerate(parts[:-1]):
+            if isinstance(node, list):
+                node = next(leg for leg in node if isinstance(leg, Mapping) and leg.get("name") == part)
+            else:
+                node = node[part]
+        if _is_distribution(node.get(parts[-1])) and not _is_distribution(value):
+            now_fixed.append(path)
+        node[parts[-1]] = copy.deepcopy(value)
+    if now_fixed:
+        if isinstance(doc.get("correlations"), list):
+            doc["correlations"] = [c for c in doc["correlations"]
+                                   if not (isinstance(c, Mapping) and isinstance(c.get("inputs"), list)
+                                           and set(c["inputs"]) & set(now_fixed))]
+        decision = doc.get("decision")
+        if isinstance(decision, Mapping) and isinstance(decision.get("tests"), list):
+            kept = []
+            for t in decision["tests"]:
+                if isinstance(t, Mapping) and isinstance(t.get("inputs"), list):
+                    t = {**t, "inputs": [n for n in t["inputs"] if n not in now_fixed]}
+                    if not t["inputs"]:
+                        continue
+                kept.append(t)
+            decision["tests"] = kept
+    return doc
+
+
+def _check_settings(samples: Any, scheme: str, replicates: int) -> None:
+    if isinstance(samples, bool) or not isinstance(samples, (int, np.integer)) or samples < 2:
+        raise StudySettingsError(f"samples = {samples!r}: expected an integer >= 2")
+    if scheme == "sobol":
+        per, rest = divmod(int(samples), replicates)
+        if rest or per < 1 or per & (per - 1):
+            good = replicates * (1 << max(1, round(math.log2(max(samples / replicates, 2)))))
+            raise StudySettingsError(
+                f"samples = {samples!r}: expected {replicates} x 2^m for scheme 'sobol' with "
+                f"{replicates} replicates (scrambled Sobol' replicates need n = 2^m each), "
+                f"e.g. {good}")
+
+
+# =============================================================================== running
+@dataclass(frozen=True)
+class _VariantModel:
+    scenario: Scenario
+    columns: tuple[int, ...]
+
+
+@dataclass(frozen=True)
+class _StudyModel:
+    """Model function of one block for every variant: unit points -> per-variant outcomes.
+
+    The union's copula (uq.studies.shared_copula) correlates the block once, so a shared
+    input has the same probability level in every variant; each variant then reads its
+    columns through its own marginals. Top-level and frozen, so process pools and Dask can
+    pickle it.
+    """
+
+    variants: tuple[_VariantModel, ...]
+    copula: Any  # uq.sampling.inputs.InputModel over the union, or None when nothing is correlated
+
+    def __call__(self, u: np.ndarray) -> list[dict[str, np.ndarray]]:
+        if self.copula is not None:
+            u = self.copula.transform(u[:, : self.copula.dimension])
+        out = []
+        for v in self.variants:
+            x = inputs_from_shared(v.scenario, v.columns, u)
+            r = ScenarioModel(v.scenario)(x)
+            # the same arrivals as uq.studies.assess: every vehicle reaching the recovery point
+            reached = r["reaches_recovery"]
+            out.append({"success": r["success"], "margin_Wh": r["margin_Wh"],
+                        "duration_days": r["duration_days"], "reached": reached, "inputs": x})
+        return out
+
+
+class _PerVariantReducer:
+    """Routes variant ``i``'s outputs of a block to reducer ``i`` (list in, list out)."""
+
+    def __init__(self, reducers: Sequence[Any]) -> None:
+        self.reducers = list(reducers)
+
+    def prepare(self, design: SampleDesign) -> "_PerVariantReducer":
+        return _PerVariantReducer([r.prepare(design) if hasattr(r, "prepare") else r
+                                   for r in self.reducers])
+
+    def map(self, block_index: int, outputs: list) -> list:
+        return [r.map(block_index, o) for r, o in zip(self.reducers, outputs)]
+
+    def reduce(self, partials: list) -> list:
+        return [r.reduce([p[i] for p in partials]) for i, r in enumerate(self.reducers)]
+
+
+@dataclass(frozen=True)
+class VariantResult:
+    """Headline figures of one variant (all on the study's shared samples).
+
+    ``p_success`` uses Wilson's interval for Monte Carlo / Latin hypercube plans (Wilson
+    1927) and the Student-t interval over RQMC replicates for scrambled Sobol' (Owen 1997);
+    ``mean_margin_Wh`` likewise (t-interval over samples or over replicates).
+    ``top_input`` is the input with the largest |Spearman rank correlation| with the energy
+    margin over the first :data:`RANKING_ROWS` rows (pooled over replicates); a first-order
+    screening measure of monotone influence, not a variance-based index.
+    """
+
+    name: str
+    overrides: tuple[tuple[str, Any], ...]
+    samples: int
+    p_success: estimators.IntervalEstimate
+    p_success_replicates: tuple[float, ...]
+    verdict: decisions.Verdict
+    contingency: decisions.ShipTimeContingency | None
+    mean_margin_Wh: estimators.IntervalEstimate
+    nominal_margin_Wh: float
+    input_ranking: tuple[tuple[str, float], ...]  # (input, Spearman rho), by |rho| descending
+    ranking_rows: int
+
+    @property
+    def top_input(self) -> str | None:
+        return self.input_ranking[0][0] if self.input_ranking else None
+
+    @property
+    def top_input_rank_correlation(self) -> float | None:
+        return self.input_ranking[0][1] if self.input_ranking else None
+
+    def row(self, fields: Sequence[str]) -> dict[str, Any]:
+        """One flat table row (used by :meth:`StudyResult.to_frame`)."""
+        given = dict(self.overrides)
+        c = self.contingency
+        b = c.booking if c is not None else None
+        row: dict[str, Any] = {"variant": self.name}
+        for f in fields:
+            v = given.get(f, None)
+            row[f] = v if v is None or isinstance(v, (int, float, str, bool)) else _short(v)
+        row.update({
+            "samples": self.samples,
+            "p_success": self.p_success.estimate,
+            "p_success_low": self.p_success.lower,
+            "p_success_high": self.p_success.upper,
+            "p_success_method": self.p_success.method,
+            "verdict": self.verdict.verdict,
+            "required_probability": self.verdict.required_probability,
+            "confidence": self.verdict.confidence,
+            "booking_quantile": c.booking_quantile if c is not None else None,
+            "booking_days": b.booking_days if b is not None else None,
+            "contingency_days": b.contingency_days if b is not None else None,
+            "contingency_days_low": b.contingency_days_low if b is not None else None,
+            "contingency_days_high": b.contingency_days_high if b is not None else None,
+            "contingency_cost": b.contingency_cost if b is not None else None,
+            "mean_margin_Wh": self.mean_margin_Wh.estimate,
+            "mean_margin_Wh_low": self.mean_margin_Wh.lower,
+            "mean_margin_Wh_high": self.mean_margin_Wh.upper,
+            "nominal_margin_Wh": self.nominal_margin_Wh,
+            "top_input": self.top_input,
+            "top_input_spearman": self.top_input_rank_correlation,
+        })
+        return row
+
+
+@dataclass(frozen=True)
+class StudyResult:
+    """Every variant's figures and the record needed to reproduce them."""
+
+    study: Study
+    samples: int
+    seed: int
+    scheme: str
+    replicates: int
+    block_size: int
+    input_names: tuple[str, ...]
+    designs: tuple[SampleDesign, ...]
+    variants: tuple[VariantResult, ...]
+    elapsed_s: float
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per variant: the varied fields, then the figures."""
+        return pd.DataFrame([v.row(self.study.fields) for v in self.variants])
+
+    def variant(self, name: str) -> VariantResult:
+        for v in self.variants:
+            if v.name == name:
+                return v
+        raise KeyError(f"no variant named {name!r}; variants: {[v.name for v in self.variants]}")
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready record: settings, plan records, inputs, and per-variant results."""
+        s = self.study
+        return {
+            "study": {"name": s.name, "description": s.description, "file": s.source,
+                      "layout": s.layout, "fields": list(s.fields),
+                      "scenario": s.scenario_path, "scenario_sha256": s.scenario_sha256},
+            "settings": {"samples": self.samples, "seed": self.seed, "scheme": self.scheme,
+                         "replicates": self.replicates, "block_size": self.block_size},
+            "designs": [d.to_dict() for d in self.designs],
+            "input_names": list(self.input_names),
+            "ranking": {"measure": _RANKING_LABEL,
+                        "rows": self.variants[0].ranking_rows if self.variants else 0},
+            "variants": [{
+                "name": v.name,
+                "overrides": {p: _jsonable(val) for p, val in v.overrides},
+                "row": _jsonable(v.row(s.fields)),
+                "p_success": v.p_success.to_dict(),
+                "p_success_replicates": list(v.p_success_replicates),
+                "verdict": v.verdict.to_dict(),
+                "contingency": v.contingency.to_dict() if v.contingency is not None else None,
+                "mean_margin_Wh": v.mean_margin_Wh.to_dict(),
+                "input_ranking": [{"input": n, "spearman": r} for n, r in v.input_ranking],
+            } for v in self.variants],
+            "elapsed_s": self.elapsed_s,
+            "versions": package_versions(),
+        }
+
+
+def _jsonable(x: Any) -> Any:
+    if isinstance(x, Mapping):
+        return {str(k): _jsonable(v) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [_jsonable(v) for v in x]
+    if isinstance(x, (np.integer,)):
+        return int(x)
+    if isinstance(x, (float, np.floating)):
+        return float(x) if math.isfinite(x) else None
+    return x
+
+
+def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
+    k = sum(c for c, _ in counts)
+    n = sum(m for _, m in counts)
+    fractions = tuple(c / m for c, m in counts)
+    if scheme == "sobol" and len(counts) >= 2:
+        est = estimators.replicate_interval(fractions, confidence=confidence)
+        lo, hi = max(0.0, est.lower), min(1.0, est.upper)
+        mid = min(max(est.estimate, lo), hi)
+        return estimators.IntervalEstimate(mid, lo, hi, confidence, est.method, n), fractions
+    return estimators.proportion_interval(k, n, confidence=confidence), fractions
+
+
+def _mean(sums: list, scheme: str, confidence: float) -> estimators.IntervalEstimate:
+    if scheme == "sobol" and len(sums) >= 2:
+        return estimators.replicate_interval([s.mean for s in sums], confidence=confidence)
+    total = sums[0]  # one plan outside RQMC
+    n = total.n
+    se = total.sd / math.sqrt(n) if n > 1 else float("nan")
+    t = float(stats.t.ppf(0.5 + confidence / 2.0, n - 1)) if n > 1 else float("nan")
+    return estimators.IntervalEstimate(total.mean, total.mean - t * se, total.mean + t * se,
+                                       confidence, f"student-t over {n} samples", n)
+
+
+def _spearman_ranking(names: Sequence[str], inputs: np.ndarray, margin: np.ndarray):
+    """(name, rho) sorted by |rho|; constant columns (no rank information) are left out."""
+    if not names or margin.size < 3:
+        return ()
+    rm = stats.rankdata(margin)
+    rm = rm - rm.mean()
+    if not np.any(rm):
+        return ()
+    rx = stats.rankdata(inputs, axis=0)
+    rx = rx - rx.mean(axis=0)
+    norms = np.sqrt((rx * rx).sum(axis=0)) * math.sqrt(float(rm @ rm))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rho = (rx.T @ rm) / norms
+    pairs = [(n, float(r)) for n, r in zip(names, rho) if np.isfinite(r)]
+    return tuple(sorted(pairs, key=lambda p: (-abs(p[1]), names.index(p[0]))))
+
+
+def _resolve(study: Study, samples, seed) -> tuple[int, int]:
+    samples = study.samples if samples is None else samples
+    seed = study.seed if seed is None else seed
+    _check_settings(samples, study.scheme, study.replicates)
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise StudySettingsError(f"seed = {seed!r}: expected an integer >= 0")
+    return int(samples), int(seed)
+
+
+def run_study(study: Study, *, samples: int | None = None, seed: int | None = None,
+              executor=None, progress: Callable[[int], None] | None = None,
+              chunk_blocks: int = 1, block_size: int = STUDY_BLOCK_SIZE,
+              ranking_rows: int = RANKING_ROWS) -> StudyResult:
+    """Evaluate every variant of ``study`` on one shared plan and summarise each.
+
+    Parameters
+    ----------
+    study : Study
+        From :func:`load_study` / :func:`parse_study`.
+    samples, seed : int, optional
+        Override the study's settings (``samples`` per variant; for scheme "sobol" a
+        multiple ``replicates x 2^m``).
+    executor : object with an ordered ``.map(fn, iterable)``, optional
+        E.g. from :func:`uq.sampling.backends.local_executor` or :func:`uq.sampling.backends.dask_executor`;
+        None runs in this process. The numbers do not depend on it.
+    progress : callable, optional
+        ``progress(rows_done)`` [samples of the plan, every variant evaluated on them].
+    chunk_blocks : int, default 1
+        Blocks per task (does not change the numbers).
+    block_size : int, default STUDY_BLOCK_SIZE
+        Rows per block; part of a Monte Carlo plan's definition (recorded).
+    ranking_rows : int, default RANKING_ROWS
+        Rows on which the input ranking is computed.
+
+    Returns
+    -------
+    StudyResult
+
+    Raises
+    ------
+    StudySettingsError
+        Invalid ``samples``, ``seed``, ``block_size`` or ``ranking_rows``.
+    """
+    samples, seed = _resolve(study, samples, seed)
+    for value, name, low in ((block_size, "block_size", 1), (ranking_rows, "ranking_rows", 0)):
+        if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < low:
+            raise StudySettingsError(f"{name} = {value!r}: expected an integer >= {low}")
+    t0 = time.perf_counter()
+    union = study.input_names
+    specs = tuple(_VariantModel(v.scenario, tuple(columns_for(v.scenario, union)))
+                  for v in study.variants)
+    model = _StudyModel(specs, shared_copula([v.scenario for v in study.variants], union))
+    k = study.replicates
+    per = samples // k
+    designs = tuple(SampleDesign(scheme=study.scheme, n=per, dimension=max(len(union), 1),
+                                 seed=seed, replicate=r, block_size=min(int(block_size), per))
+                    for r in range(k))
+    rank_per = -(-int(ranking_rows) // k)
+
+    def reducer(design):
+        return _PerVariantReducer([MultiReducer({
+            "success": CountReducer("success"),
+            "margin": SumReducer("margin_Wh"),
+            "arrival": CollectReducer(("duration_days", "reached"), design.n),
+            "ranking": CollectReducer(("margin_Wh", "inputs"), min(rank_per, design.n)),
+        }) for _ in specs])
+
+    done = [0] * k
+    lock = threading.Lock()
+
+    def run(r: int):
+        def tick(rows: int) -> None:
+            if progress is None:
+                return
+            with lock:
+                done[r] = rows
+                progress(sum(done))
+        return stream(designs[r], model, reducer(designs[r]), chunk_blocks=chunk_blocks,
+                      executor=executor, progress=tick)
+
+    if executor is None or k == 1:
+        per_replicate = [run(r) for r in range(k)]
+    else:
+        with ThreadPoolExecutor(max_workers=k, thread_name_prefix="study-replicate") as threads:
+            per_replicate = list(threads.map(run, range(k)))
+
+    results = []
+    for i, v in enumerate(study.variants):
+        parts = [rep[i] for rep in per_replicate]
+        results.append(_summarise(v, parts, study.scheme, specs[i].scenario))
+    return StudyResult(study=study, samples=samples, seed=seed, scheme=study.scheme,
+                       replicates=k, block_size=designs[0].block_size, input_names=union,
+                       designs=designs, variants=tuple(results),
+                       elapsed_s=time.perf_counter() - t0)
+
+
+def _summarise(variant: Variant, parts: list[dict], scheme: str, scenario: Scenario) -> VariantResult:
+    dec = scenario.decision
+    conf = dec.confidence
+    p, fractions = _proportion([(q["success"].count, q["success"].n) for q in parts], scheme, conf)
+    n = p.n
+    verdict = decisions.go_no_go(p.lower, p.upper, p.estimate,
+                                 required_probability=dec.required_probability,
+                                 confidence=conf, samples=n)
+    durations = np.concatenate([q["arrival"]["duration_days"] for q in parts])
+    reached = np.concatenate([q["arrival"]["reached"] for q in parts]).astype(bool)
+    base = nominal(scenario)
+    contingency = None
+    nominal_days = float(base.outcome["duration_days"])
+    if reached.sum() >= 2 and nominal_days > 0 and math.isfinite(nominal_days):
+        contingency = decisions.ship_time_contingency(
+            durations, arrived=reached, nominal_days=nominal_days,
+            booking_quantile=dec.booking_quantile, day_rate=dec.ship_day_rate,
+            currency=dec.currency, confidence=conf)
+    margin = np.concatenate([q["ranking"]["margin_Wh"] for q in parts])
+    ranking: tuple = ()
+    if scenario.inputs and margin.size:
+        inputs = np.concatenate([q["ranking"]["inputs"].reshape(-1, len(scenario.inputs))
+                                 for q in parts])
+        ranking = _spearman_ranking(list(scenario.input_names), inputs, margin)
+    return VariantResult(
+        name=variant.name, overrides=variant.overrides, samples=n, p_success=p,
+        p_success_replicates=fractions, verdict=verdict, contingency=contingency,
+        mean_margin_Wh=_mean([q["margin"] for q in parts], scheme, conf),
+        nominal_margin_Wh=float(base.outcome["margin_Wh"]), input_ranking=ranking,
+        ranking_rows=int(margin.size))
+
+
+# =============================================================================== output
+_HTML = """<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8">
+<title>{{ study.name }} - transit-risk study</title>
+<style>
+body{font-family:system-ui,sans-serif;margin:1.5em;color:#222}
+table{border-collapse:collapse;font-size:0.85em}
+th,td{border:1px solid #ccc;padding:3px 6px;text-align:right;vertical-align:middle}
+th{background:#f3f3f3}td.l,th.l{text-align:left}
+.go{background:#dff3df}.no-go{background:#f8dcdc}.undecided{background:#fbf1d3}
+.bar{position:relative;width:180px;height:12px;background:#eee}
+.bar .ci{position:absolute;top:3px;height:6px;background:#7aa7d8}
+.bar .pt{position:absolute;top:0;width:2px;height:12px;background:#1b4f8a}
+.bar .req{position:absolute;top:-2px;width:1px;height:16px;background:#c00}
+small{color:#666}
+</style></head><body>
+<h1>Study: {{ study.name }}</h1>
+{% if study.description %}<p>{{ study.description }}</p>{% endif %}
+<p><small>Base scenario {{ study.scenario_path }} (SHA-256 {{ study.scenario_sha256[:12] }}...);
+{{ samples }} samples per variant, scheme {{ scheme }}{% if replicates > 1 %} ({{ replicates }} replicates){% endif %},
+seed {{ seed }}, block size {{ block_size }}. Every variant uses the same samples of the inputs
+it shares with the others (common random numbers), so differences between rows are
+differences of the configurations. Input ranking: {{ ranking_label }} over {{ ranking_rows }} samples.</small></p>
+<table>
+<tr><th class="l">variant</th>{% for f in fields %}<th>{{ f }}</th>{% endfor %}
+<th>P(success)</th><th>interval</th><th class="l">P(success) and requirement</th><th>verdict</th>
+<th>contingency [days]</th><th>mean margin [Wh]</th><th class="l">top input (Spearman)</th></tr>
+{% for r in rows %}<tr>
+<td class="l">{{ r.variant }}</td>{% for f in fields %}<td>{{ r[f] if r[f] is not none else "(base)" }}</td>{% endfor %}
+<td>{{ "%.4f"|format(r.p_success) }}</td>
+<td>{{ "%.4f"|format(r.p_success_low) }}&ndash;{{ "%.4f"|format(r.p_success_high) }}</td>
+<td class="l"><div class="bar" title="{{ r.p_success_method }}">
+<div class="ci" style="left:{{ (180*r.p_success_low)|round(1) }}px;width:{{ (180*(r.p_success_high-r.p_success_low))|round(1) }}px"></div>
+<div class="pt" style="left:{{ (180*r.p_success)|round(1) }}px"></div>
+<div class="req" style="left:{{ (180*r.required_probability)|round(1) }}px"></div></div></td>
+<td class="{{ r.verdict }}">{{ r.verdict }}</td>
+<td>{% if r.contingency_days is not none %}{{ "%.2f"|format(r.contingency_days) }}{% else %}n/a{% endif %}</td>
+<td>{{ "%.0f"|format(r.mean_margin_Wh) }}</td>
+<td class="l">{% if r.top_input %}{{ r.top_input }} ({{ "%+.2f"|format(r.top_input_spearman) }}){% else %}n/a{% endif %}</td>
+</tr>{% endfor %}
+</table>
+<p><small>Bars: P(success) (dark tick) with its {{ confidence_pct }} interval (blue) against the
+required probability (red line). Contingency: ship-time booking at the scenario's booking
+quantile of arrival time, less the nominal transit time.</small></p>
+</body></html>
+"""
+
+
+def _render_html(result: StudyResult) -> str:
+    import jinja2
+
+    env = jinja2.Environment(autoescape=True, undefined=jinja2.StrictUndefined)
+    rows = result.to_frame().astype(object).where(lambda f: f.notna(), None).to_dict("records")
+    conf = result.variants[0].verdict.confidence if result.variants else 0.95
+    return env.from_string(_HTML).render(
+        study=result.study, samples=result.samples, scheme=result.scheme,
+        replicates=result.replicates, seed=result.seed, block_size=result.block_size,
+        fields=list(result.study.fields), rows=rows, ranking_label=_RANKING_LABEL,
+        ranking_rows=result.variants[0].ranking_rows if result.variants else 0,
+        confidence_pct=f"{conf * 100:g} %")
+
+
+def write_study(result: StudyResult, out_dir: str | os.PathLike[str], *,
+                overwrite: bool = False) -> Path:
+    """Write ``study.csv``, ``study.json`` and ``index.html`` into ``out_dir`` atomically.
+
+    The files are written into a temporary folder beside ``out_dir`` and moved into place
+    with one rename, so a reader sees either no folder or a complete one.
+
+    Raises
+    ------
+    StudyOutputError
+        ``out_dir`` exists and ``overwrite`` is false, or it is not a folder.
+    """
+    out = Path(out_dir)
+    if out.exists() and not overwrite:
+        raise StudyOutputError(f"output folder {str(out)!r} exists: expected a new folder, or "
+                               "overwrite=True (--overwrite) to replace it")
+    if out.exists() and not out.is_dir():
+        raise StudyOutputError(f"output path {str(out)!r} is a file: expected a folder")
+    out.parent.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
+    try:
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes it private; the report is not
+        result.to_frame().to_csv(tmp / "study.csv", index=False)
+        (tmp / "study.json").write_text(
+            json.dumps(_jsonable(result.to_dict()), indent=2, allow_nan=False) + "\n",
+            encoding="utf-8")
+        (tmp / "index.html").write_text(_render_html(result), encoding="utf-8")
+        if out.exists():
+            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=out.parent))
+            os.rename(out, old / "previous")
+            os.rename(tmp, out)
+            shutil.rmtree(old, ignore_errors=True)
+        else:
+            os.rename(tmp, out)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    return out
+
+
+# =============================================================================== CLI
+class _ArgumentError(Exception):
+    pass
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # one line and exit code 2, decided by study_main
+        raise _ArgumentError(message)
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="transit-risk study",
+                description="Run a batch study: every variant of a base scenario on shared samples.")
+    p.add_argument("studyfile", metavar="STUDYFILE", help="study file (TOML)")
+    p.add_argument("--samples", type=int, help="samples per variant (overrides the study file)")
+    p.add_argument("--seed", type=int, help="random seed (overrides the study file)")
+    p.add_argument("--out", help="output folder (default: reports/<study name>)")
+    p.add_argument("--overwrite", action="store_true", help="replace an existing output folder")
+    p.add_argument("--quiet", action="store_true", help="no progress bar and no summary")
+    where = p.add_mutually_exclusive_group()
+    where.add_argument("--workers", type=int, default=1, help="local worker processes (default 1)")
+    where.add_argument("--scheduler", metavar="ADDRESS", help="run on a running Dask scheduler")
+    where.add_argument("--local-cluster", type=int, metavar="N",
+                       help="start a loopback Dask cluster of N worker processes")
+    return p
+
+
+def study_main(argv: Sequence[str] | None = None) -> int:
+    """Command-line entry of ``transit-risk study``; returns the exit code.
+
+    0 on success; 2 with a one-line message on standard error for bad options, an invalid
+    study file, an existing output folder or a missing optional dependency.
+    """
+    from uq.sampling import backends
+
+    prog = "transit-risk study"
+    try:
+        args = _parser().parse_args(list(sys.argv[1:] if argv is None else argv))
+    except _ArgumentError as exc:
+        print(f"{prog}: error: {exc}", file=sys.stderr)
+        return 2
+    try:
+        study = load_study(args.studyfile)
+        samples, seed = _resolve(study, args.samples, args.seed)
+        out = Path(args.out) if args.out else Path("reports") / study.name
+        if out.exists() and not args.overwrite:
+            raise StudyOutputError(f"output folder {str(out)!r} exists: expected a new folder, "
+                                   "or --overwrite to replace it")
+        if args.workers < 1 or (args.local_cluster is not None and args.local_cluster < 1):
+            raise backends.BackendError(
+                f"worker count = {args.local_cluster if args.local_cluster is not None else args.workers}: "
+                "expected an integer >= 1")
+        if args.scheduler is not None or args.local_cluster is not None:
+            context = backends.dask_executor(args.scheduler, local_workers=args.local_cluster)
+        else:
+            context = backends.local_executor(args.workers)
+        bar = None
+        if not args.quiet:
+            from tqdm import tqdm
+
+            bar = tqdm(total=samples, unit="sample", desc=study.name, file=sys.stderr,
+                       leave=False)
+        with context as executor:
+            result = run_study(study, samples=samples, seed=seed, executor=executor,
+                               progress=(lambda rows: bar.update(rows - bar.n)) if bar else None)
+        if bar is not None:
+            bar.close()
+        written = write_study(result, out, overwrite=args.overwrite)
+    except (ScenarioError, StudySettingsError, StudyOutputError, backends.BackendError,
+            backends.DaskUnavailableError, OSError) as exc:
+        print(f"{prog}: error: {exc}".replace("\n", " "), file=sys.stderr)
+        return 2
+    if not args.quiet:
+        frame = result.to_frame()
+        cols = ["variant", "p_success", "p_success_low", "p_success_high", "verdict",
+                "contingency_days", "mean_margin_Wh", "top_input"]
+        with pd.option_context("display.width", 200, "display.max_columns", 20,
+                               "display.max_colwidth", 60):
+            print(frame[cols].to_string(index=False))
+        print(f"wrote {written / 'study.csv'}, study.json, index.html "
+              f"({len(result.variants)} variants, {result.samples} samples, seed {result.seed}, "
+              f"{result.elapsed_s:.1f} s)")
+    return 0

@@ -1,0 +1,257 @@
+"""Studies over several configurations on shared samples: setpoint sweeps and comparisons.
+
+Common random numbers: one unit-hypercube plan is drawn over the *union* of the input names
+of every configuration, and each configuration reads the columns of the inputs it has, by
+name. Two configurations that share an input therefore see the same value of it in every row,
+so differences between them are differences of the configurations, not sampling noise.
+"""
+from __future__ import annotations
+
+from uq.errors import InputError
+
+import dataclasses
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from physics import drag, propulsion, seawater
+from uq import decisions
+from uq.sampling.inputs import InputModel, ScipyMarginal
+from uq.sampling.plans import SampleDesign
+from uq.scenario import DragCoefficient, HullGeometry, Scenario
+from uq.simulate import ScenarioModel, nominal, nominal_inputs
+
+__all__ = [
+    "SWEEPABLE",
+    "StudyError",
+    "shared_unit_points",
+    "columns_for",
+    "shared_copula",
+    "inputs_from_shared",
+    "with_setpoint",
+    "evaluate_on_shared_samples",
+    "SweepResult",
+    "sweep_setpoint",
+    "deterministic_optimum",
+    "ComparisonResult",
+    "compare_scenarios",
+]
+
+#: setpoint fields a sweep may vary, by vehicle kind, with their units
+SWEEPABLE = {
+    "propeller": {"setpoint.speed_m_s": ("speed through water", "m/s")},
+    "glider": {"setpoint.glide_angle_deg": ("glide angle", "deg"),
+               "setpoint.net_buoyancy_N": ("net buoyancy", "N")},
+}
+
+
+class StudyError(InputError):
+    """A sweep or comparison that cannot be run as asked."""
+
+
+def shared_unit_points(names: Sequence[str], n: int, *, seed: int,
+                       scheme: str = "sobol") -> np.ndarray:
+    """(n, len(names)) unit points of one plan over the union of input names."""
+    d = max(len(names), 1)
+    design = SampleDesign(scheme=scheme, n=n, dimension=d, seed=seed)
+    return design.unit_points()[:, : len(names)]
+
+
+def columns_for(scenario: Scenario, union: Sequence[str]) -> list[int]:
+    """Column indices in the shared plan of each of ``scenario``'s inputs."""
+    where = {name: i for i, name in enumerate(union)}
+    return [where[name] for name in scenario.input_names]
+
+
+def with_setpoint(scenario: Scenario, field: str, value: float) -> Scenario:
+    """The scenario with one setpoint field fixed at ``value`` (removed from the inputs)."""
+    allowed = SWEEPABLE[scenario.vehicle.kind]
+    if field not in allowed:
+        raise StudyError(
+            f"sweep field {field!r} is not a setpoint of a {scenario.vehicle.kind} vehicle; "
+            f"expected one of {sorted(allowed)}")
+    attribute = field.split(".", 1)[1]
+    setpoint = dataclasses.replace(scenario.setpoint, **{attribute: float(value)})
+    inputs = tuple(m for m in scenario.inputs if m.name != field)
+    correlations = tuple(c for c in scenario.correlations if field not in c.inputs)
+    return dataclasses.replace(scenario, setpoint=setpoint, inputs=inputs,
+                               correlations=correlations)
+
+
+def shared_copula(scenarios: Sequence[Scenario], union: Sequence[str]) -> InputModel | None:
+    """One Gaussian copula over the union of inputs, from every configuration's correlations.
+
+    Correlating per configuration (in each one's own input order) would give a shared input
+    different values in different configurations; one copula over the union keeps them equal.
+    """
+    pairs: dict[frozenset, float] = {}
+    for s in scenarios:
+        for c in s.correlations:
+            key = frozenset(c.inputs)
+            if key in pairs and pairs[key] != c.coefficient:
+                raise StudyError(
+                    f"configurations disagree on the rank correlation of {sorted(key)}: "
+                    f"{pairs[key]} vs {c.coefficient}; expected the same value in both")
+            pairs[key] = c.coefficient
+    if not pairs:
+        return None
+    index = {name: i for i, name in enumerate(union)}
+    matrix = np.eye(len(union))
+    for key, rho in pairs.items():
+        a, b = sorted(key)
+        matrix[index[a], index[b]] = matrix[index[b], index[a]] = rho
+    uniforms = [ScipyMarginal(name, stats.uniform()) for name in union]
+    return InputModel(uniforms, rank_correlation=matrix)
+
+
+def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, seed: int,
+                               scheme: str = "sobol") -> list[dict[str, np.ndarray]]:
+    """Outcomes of every scenario on one shared plan (common random numbers by input name).
+
+    The plan's unit points are correlated once over the union of inputs; each configuration
+    then maps the columns of its own inputs through its own marginals, so a shared input has
+    the same probability level in every configuration (the same value when the marginals agree).
+    """
+    union: list[str] = []
+    for s in scenarios:
+        union.extend(name for name in s.input_names if name not in union)
+    u = shared_unit_points(union, samples, seed=seed, scheme=scheme)
+    copula = shared_copula(scenarios, union)
+    if copula is not None:
+        u = copula.transform(u)  # correlated uniforms
+    return [ScenarioModel(s)(inputs_from_shared(s, columns_for(s, union), u))
+            for s in scenarios]
+
+
+def inputs_from_shared(scenario: Scenario, columns: Sequence[int],
+                       correlated_unit: np.ndarray) -> np.ndarray:
+    """(n, d) physical inputs of ``scenario`` from the union plan's (correlated) unit points:
+    each of its inputs reads its column by name through its own marginal."""
+    if not columns:
+        return np.zeros((correlated_unit.shape[0], 0))
+    return np.column_stack([m.ppf(correlated_unit[:, c])
+                            for m, c in zip(scenario.inputs, columns)])
+
+
+def deterministic_optimum(scenario: Scenario, field: str) -> float | None:
+    """Energy-optimal setpoint of the nominal (median-input) vehicle in still water.
+
+    Propeller: the closed-form minimum of energy per distance, U* = (eta P_h / (rho C_D A))^(1/3)
+    (see :func:`physics.propulsion.optimal_speed`), iterated because C_D depends on U through
+    the Reynolds number. Hotel load is the length-weighted mean over the legs; density and
+    viscosity are those of the longest leg. Gliders: None (no closed form is offered).
+    """
+    if scenario.vehicle.kind != "propeller" or field != "setpoint.speed_m_s":
+        return None
+    x = nominal_inputs(scenario)
+    values = {m.name: x[0, i] for i, m in enumerate(scenario.inputs)}
+
+    def val(v):
+        return float(v) if isinstance(v, (int, float)) else float(values[v.name])
+
+    legs = scenario.legs
+    lengths = np.array([val(leg.length_km) for leg in legs])
+    longest = legs[int(np.argmax(lengths))]
+    hotel_default = val(scenario.vehicle.hotel_load_W)
+    hotel = np.array([hotel_default if leg.hotel_load_W is None else val(leg.hotel_load_W)
+                      for leg in legs])
+    hotel_mean = float(np.sum(hotel * lengths) / np.sum(lengths))
+    t, sp = val(longest.temperature_C), val(longest.practical_salinity)
+    rho = float(seawater.density(sp, t, val(scenario.setpoint.depth_m)))
+    nu = float(seawater.kinematic_viscosity(t, sp, rho))
+    eta = val(scenario.vehicle.propulsive_efficiency)
+    body = scenario.vehicle.drag
+    speed = val(scenario.setpoint.speed_m_s)
+    for _ in range(20):
+        if isinstance(body, HullGeometry):
+            length, diameter = val(body.length_m), val(body.diameter_m)
+            cd = float(drag.hull_drag_coefficient(speed, length, diameter, nu,
+                                                  appendage_factor=val(body.appendage_factor)))
+            area = (float(drag.spheroid_wetted_area(length, diameter))
+                    if body.wetted_area_m2 is None else val(body.wetted_area_m2))
+        elif isinstance(body, DragCoefficient):
+            cd, area = val(body.coefficient), val(body.reference_area_m2)
+        new = float(propulsion.optimal_speed(rho, cd, area, eta, hotel_mean))
+        if abs(new - speed) < 1e-10:
+            break
+        speed = new
+    return speed
+
+
+@dataclass(frozen=True)
+class SweepResult:
+    field: str
+    values: tuple[float, ...]
+    summary: decisions.SweepSummary
+    nominal_margin_Wh: tuple[float, ...]  # deterministic margin at each setpoint
+    samples: int
+    seed: int
+
+    def to_frame(self) -> pd.DataFrame:
+        frame = self.summary.to_frame()
+        frame["nominal_margin_Wh"] = list(self.nominal_margin_Wh)
+        return frame
+
+
+def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
+                   samples: int | None = None, seed: int | None = None,
+                   scheme: str = "sobol") -> SweepResult:
+    """P(success), P90 duration and mean margin over setpoint values, on shared samples."""
+    values = tuple(float(v) for v in values)
+    if not values:
+        raise StudyError("a sweep needs at least one setpoint value")
+    samples = int(samples or scenario.analysis.samples)
+    if scheme == "sobol":
+        samples = 1 << int(round(np.log2(max(samples, 2))))
+    seed = int(scenario.analysis.seed if seed is None else seed)
+    variants = [with_setpoint(scenario, field, v) for v in values]
+    outs = evaluate_on_shared_samples(variants, samples=samples, seed=seed, scheme=scheme)
+    name, unit = SWEEPABLE[scenario.vehicle.kind][field]
+    summary = decisions.sweep_summary(
+        values,
+        np.stack([o["success"] for o in outs]),
+        np.stack([o["duration_days"] for o in outs]),
+        np.stack([o["arrived"] & (o["range_km"] >= o["route_km"]) for o in outs]),
+        np.stack([o["margin_Wh"] for o in outs]),
+        required_probability=scenario.decision.required_probability,
+        confidence=scenario.decision.confidence,
+        setpoint_name=name, unit=unit,
+        deterministic_optimum=deterministic_optimum(scenario, field),
+        margin_unit="Wh",
+    )
+    nominal_margins = tuple(float(nominal(v).outcome["margin_Wh"]) for v in variants)
+    return SweepResult(field=field, values=values, summary=summary,
+                       nominal_margin_Wh=nominal_margins, samples=samples, seed=seed)
+
+
+@dataclass(frozen=True)
+class ComparisonResult:
+    names: tuple[str, str]
+    comparison: decisions.PairedComparison
+    shared_inputs: tuple[str, ...]
+    samples: int
+    seed: int
+
+    def to_frame(self) -> pd.DataFrame:
+        return self.comparison.to_frame()
+
+
+def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
+                      seed: int | None = None, scheme: str = "sobol") -> ComparisonResult:
+    """Paired comparison of two configurations on shared samples of their common inputs."""
+    samples = int(samples or a.analysis.samples)
+    if scheme == "sobol":
+        samples = 1 << int(round(np.log2(max(samples, 2))))
+    seed = int(a.analysis.seed if seed is None else seed)
+    out_a, out_b = evaluate_on_shared_samples([a, b], samples=samples, seed=seed, scheme=scheme)
+    names = (a.name, b.name) if a.name != b.name else (f"{a.name} (A)", f"{b.name} (B)")
+    comparison = decisions.paired_comparison(
+        out_a["success"], out_b["success"],
+        out_a["route_energy_per_km_Wh"], out_b["route_energy_per_km_Wh"],
+        names=names, confidence=a.decision.confidence)
+    shared = tuple(n for n in a.input_names if n in b.input_names)
+    return ComparisonResult(names=names, comparison=comparison, shared_inputs=shared,
+                            samples=samples, seed=seed)
