@@ -1,10 +1,28 @@
-"""Holding a straight track through a current by crabbing."""
+"""Making a track good through a current: crabbing, drifting, and currents over depth."""
 
 from typing import NamedTuple
 
 import numpy as np
 
-__all__ = ["GroundTrack", "ground_track"]
+__all__ = [
+    "CRAB",
+    "CRAB_OR_DRIFT",
+    "CURRENT_POLICIES",
+    "DRIFT",
+    "GroundTrack",
+    "TrackMadeGood",
+    "drift_track",
+    "ground_track",
+    "layered_current",
+    "track_made_good",
+]
+
+#: Current policy codes (how the vehicle deals with the current across its track on a leg).
+CRAB = 0  #: turn into the cross current to hold the track line
+DRIFT = 1  #: head along the track, drift across, make the offset good later
+CRAB_OR_DRIFT = 2  #: whichever of the two makes good the track faster at that moment
+#: policy names as written in a scenario, by code
+CURRENT_POLICIES = {CRAB: "crab", DRIFT: "drift", CRAB_OR_DRIFT: "crab_or_drift"}
 
 
 class GroundTrack(NamedTuple):
@@ -66,3 +84,121 @@ def ground_track(speed_through_water, current_along, current_across):
         crab_angle=crab,
         headway=headway,
     )
+
+
+def drift_track(speed_through_water, current_along, current_across):
+    """Speed made good when drifting across the track and making the offset good later.
+
+    Parameters
+    ----------
+    speed_through_water : array_like
+        Horizontal speed through water u [m/s].
+    current_along : array_like
+        Current along the track c_a [m/s], positive when following.
+    current_across : array_like
+        Current across the track c_x [m/s] (either sign).
+
+    Returns
+    -------
+    GroundTrack
+        crab_angle is 0; no headway only where u + c_a <= 0 (ground_speed 0.0, never NaN).
+
+    Notes
+    -----
+    Heading along the track the vehicle progresses at u + c_a while the cross current
+    carries it off at |c_x|: per metre of track it spends 1/(u + c_a) and collects
+    |c_x|/(u + c_a) metres of offset. The offset is made good later in slack water at the
+    vehicle's own speed u, taking |c_x|/((u + c_a) u) more; the mean speed made good is
+
+        u_g = (u + c_a) u / (u + |c_x|)
+
+    (derived from the velocity triangle, MODEL notes sec. 8). The make-good is booked on the
+    leg where the offset arose (same time and energy, at that leg's fouling state).
+    """
+    u, c_along, c_across = np.broadcast_arrays(
+        *(np.asarray(x, dtype=float) for x in (speed_through_water, current_along,
+                                                current_across)))
+    progress = u + c_along
+    headway = (progress > 0.0) & (u > 0.0)
+    denominator = np.where(headway, u + np.abs(c_across), 1.0)
+    return GroundTrack(
+        ground_speed=np.where(headway, progress * u / denominator, 0.0),
+        crab_angle=np.zeros(u.shape),
+        headway=headway,
+    )
+
+
+class TrackMadeGood(NamedTuple):
+    """Ground-track kinematics under a current policy (broadcast shape of the inputs).
+
+    Attributes
+    ----------
+    ground_speed : ndarray
+        Mean speed made good along the track [m/s] (0.0 without headway).
+    headway : ndarray of bool
+        Positive progress along the track.
+    drifting : ndarray of bool
+        The vehicle drifts across the track (and makes the offset good later).
+    """
+
+    ground_speed: np.ndarray
+    headway: np.ndarray
+    drifting: np.ndarray
+
+
+def track_made_good(speed_through_water, current_along, current_across, policy=CRAB):
+    """Speed made good along the track under a current policy.
+
+    Parameters
+    ----------
+    speed_through_water, current_along, current_across : array_like
+        As in :func:`ground_track` [m/s].
+    policy : array_like of int, optional
+        CRAB (hold the track line, :func:`ground_track`), DRIFT (:func:`drift_track`) or
+        CRAB_OR_DRIFT (the faster of the two where each has headway: a pilot's choice).
+
+    Returns
+    -------
+    TrackMadeGood
+    """
+    crab = ground_track(speed_through_water, current_along, current_across)
+    drift = drift_track(speed_through_water, current_along, current_across)
+    code = np.broadcast_to(np.asarray(policy), crab.ground_speed.shape)
+    choose_drift = (code == DRIFT) | ((code == CRAB_OR_DRIFT)
+                                      & (drift.ground_speed > crab.ground_speed))
+    return TrackMadeGood(
+        ground_speed=np.where(choose_drift, drift.ground_speed, crab.ground_speed),
+        headway=np.where(choose_drift, drift.headway, crab.headway),
+        drifting=choose_drift & drift.headway,
+    )
+
+
+def layered_current(surface_current, deep_current, layer_depth, top_depth, bottom_depth):
+    """Mean of a two-layer current profile over a depth band (a point when top == bottom).
+
+    Parameters
+    ----------
+    surface_current : array_like
+        Current component in the surface layer, from 0 to ``layer_depth`` [m/s].
+    deep_current : array_like
+        Current component below ``layer_depth`` [m/s].
+    layer_depth : array_like
+        Thickness of the surface layer h [m] (0: the deep value everywhere).
+    top_depth, bottom_depth : array_like
+        Depth band [m], top <= bottom; a glider's dive band, or a propeller vehicle's running
+        depth given as both.
+
+    Returns
+    -------
+    ndarray
+        (c_s overlap([z_t, z_b], [0, h]) + c_d overlap([z_t, z_b], [h, inf))) / (z_b - z_t)
+        [m/s]; at a single depth z, c_s if z < h else c_d (derived).
+    """
+    c_s, c_d, h, z_t, z_b = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+        surface_current, deep_current, layer_depth, top_depth, bottom_depth)))
+    band = z_b - z_t
+    has_band = band > 0.0
+    in_layer = np.clip(np.minimum(z_b, h) - z_t, 0.0, None)
+    share = np.where(has_band, in_layer / np.where(has_band, band, 1.0),
+                     (z_t < h).astype(float))
+    return share * c_s + (1.0 - share) * c_d

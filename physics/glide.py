@@ -10,14 +10,23 @@ from typing import NamedTuple
 import numpy as np
 
 __all__ = [
+    "FLY_EFFICIENT",
+    "FLY_HOLD_ANGLE",
+    "FLY_HOLD_SPEED",
+    "FLIGHT_POLICIES",
     "GLIDE_BELOW_MINIMUM_ANGLE",
     "GLIDE_OK",
     "GLIDE_STALL",
+    "TRIM_ABOVE_ENGINE_LIMIT",
     "GlideInputError",
     "GlidePolar",
     "GlideSolution",
+    "GlideTrim",
+    "flattest_glide_angle",
     "glide_polar",
+    "glide_trim",
     "minimum_glide_angle",
+    "net_buoyancy_for_speed",
     "steady_glide",
 ]
 
@@ -28,7 +37,21 @@ GLIDE_BELOW_MINIMUM_ANGLE = 1
 #: The required lift coefficient exceeds the maximum (stall).
 GLIDE_STALL = 2
 
+#: The net buoyancy the state needs exceeds what the buoyancy engine can give.
+TRIM_ABOVE_ENGINE_LIMIT = 3
+
+#: Flight policy codes (how a pilot trims the glider on a leg).
+FLY_HOLD_ANGLE = 0  #: fixed commanded angle and net buoyancy (steepened if the polar needs it)
+FLY_HOLD_SPEED = 1  #: commanded angle, net buoyancy re-trimmed to hold the horizontal speed
+FLY_EFFICIENT = 2  #: hold the horizontal speed at the angle of least energy per distance
+#: policy names as written in a scenario, by code
+FLIGHT_POLICIES = {FLY_HOLD_ANGLE: "hold_angle", FLY_HOLD_SPEED: "hold_speed",
+                   FLY_EFFICIENT: "efficient"}
+
 _BRANCHES = ("efficient", "slow")
+# angle grid of the efficient policy: tan(gamma) = tan(gamma_flat) * tau, tau in [1, 1 + 5]
+_TAU = 1.0 + 5.0 * np.linspace(0.0, 1.0, 41) ** 2
+_ANGLE_MARGIN = 1e-9  # [rad] kept above the flattest angle so the root stays real
 
 
 class GlideInputError(ValueError):
@@ -285,3 +308,216 @@ def glide_polar(net_buoyancy, density, reference_area, zero_lift_drag, induced_d
         horizontal_speed=speed * np.cos(gamma),
         vertical_speed=speed * np.sin(gamma),
     )
+
+
+def flattest_glide_angle(zero_lift_drag, induced_drag_factor, max_lift_coefficient=np.inf):
+    """Flattest steady glide angle the polar allows below the stall.
+
+    Parameters
+    ----------
+    zero_lift_drag : array_like
+        C_D0 [-], > 0.
+    induced_drag_factor : array_like
+        K [-], >= 0.
+    max_lift_coefficient : array_like, optional
+        Stall limit C_L,max [-] (default: none).
+
+    Returns
+    -------
+    ndarray
+        gamma_flat = atan(min over 0 < C_L <= C_L,max of (C_D0 + K C_L^2) / C_L) [rad].
+
+    Notes
+    -----
+    C_D / C_L is least at C_L* = sqrt(C_D0 / K), where it is 2 sqrt(K C_D0)
+    (:func:`minimum_glide_angle`); when C_L* is beyond the stall the flattest angle is at
+    C_L,max (derived from the parabolic polar).
+    """
+    cd0, k, cl_max = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+        zero_lift_drag, induced_drag_factor, max_lift_coefficient)))
+    best_cl = np.sqrt(cd0 / np.where(k > 0.0, k, 1.0))
+    unconstrained = (k > 0.0) & (best_cl <= cl_max)
+    cl = np.where(np.isfinite(cl_max) & (cl_max > 0.0), cl_max, 1.0)
+    at_stall = np.arctan((cd0 + k * cl**2) / cl)
+    return np.where(unconstrained, minimum_glide_angle(cd0, k), at_stall)
+
+
+def net_buoyancy_for_speed(glide_angle, horizontal_speed, density, reference_area,
+                           zero_lift_drag, induced_drag_factor, *, max_lift_coefficient=np.inf):
+    """Net buoyancy that flies a given horizontal speed at a given glide angle.
+
+    Parameters
+    ----------
+    glide_angle : array_like
+        Glide path angle gamma [rad], in (0, pi/2).
+    horizontal_speed : array_like
+        Horizontal speed through water u [m/s].
+    density, reference_area, zero_lift_drag, induced_drag_factor : array_like
+        As in :func:`steady_glide` [kg/m3], [m2], [-], [-].
+    max_lift_coefficient : array_like, optional
+        Stall limit C_L,max [-].
+
+    Returns
+    -------
+    buoyancy : ndarray
+        B = rho S C_L u^2 / (2 cos^3 gamma) [N] (0.0 where no glide exists).
+    state : ndarray of int8
+        GLIDE_OK, GLIDE_BELOW_MINIMUM_ANGLE or GLIDE_STALL.
+
+    Notes
+    -----
+    With V = u / cos(gamma) the lift balance B cos(gamma) = rho S C_L V^2 / 2 gives B, where
+    C_L is the efficient root at gamma (MODEL notes sec. 8, from the force balance of [1]_).
+    At a fixed angle C_L grows with C_D0, so holding a speed costs more buoyancy (and pump
+    energy) as the vehicle fouls.
+
+    References
+    ----------
+    .. [1] Graver, J.G., 2005: Underwater gliders: dynamics, control and design. PhD thesis,
+       Princeton University.
+    """
+    gamma = np.asarray(glide_angle, dtype=float)
+    u = np.asarray(horizontal_speed, dtype=float)
+    rho = np.asarray(density, dtype=float)
+    area = np.asarray(reference_area, dtype=float)
+    unit = steady_glide(gamma, 1.0, rho, area, zero_lift_drag, induced_drag_factor,
+                        max_lift_coefficient=max_lift_coefficient)
+    ok = unit.state == GLIDE_OK
+    b = 0.5 * rho * area * unit.lift_coefficient * u**2 / np.cos(gamma) ** 3
+    return np.where(ok, b, 0.0), unit.state
+
+
+class GlideTrim(NamedTuple):
+    """How the glider is trimmed on a leg; fields have the broadcast shape of the inputs.
+
+    Attributes
+    ----------
+    glide_angle : ndarray
+        Path angle flown [rad].
+    net_buoyancy : ndarray
+        Net buoyancy magnitude flown [N].
+    horizontal_speed, vertical_speed : ndarray
+        Steady glide speeds u, w [m/s].
+    retrimmed : ndarray of bool
+        The angle or the net buoyancy differs from the commanded setpoint.
+    at_limit : ndarray of bool
+        The engine's limit caps the net buoyancy (the speed is not held).
+    state : ndarray of int8
+        GLIDE_OK, or TRIM_ABOVE_ENGINE_LIMIT when the policy needs more net buoyancy than the
+        engine can give and may not fall back (hold_angle, hold_speed).
+    """
+
+    glide_angle: np.ndarray
+    net_buoyancy: np.ndarray
+    horizontal_speed: np.ndarray
+    vertical_speed: np.ndarray
+    retrimmed: np.ndarray
+    at_limit: np.ndarray
+    state: np.ndarray
+
+
+def glide_trim(policy, commanded_angle, commanded_buoyancy, commanded_speed, density,
+               reference_area, zero_lift_drag, induced_drag_factor, max_lift_coefficient,
+               max_net_buoyancy, *, pump_efficiency=1.0, overhead_per_tan=0.0):
+    """Trim of a glider under a flight policy, within the buoyancy engine's limit.
+
+    Parameters
+    ----------
+    policy : array_like of int
+        FLY_HOLD_ANGLE, FLY_HOLD_SPEED or FLY_EFFICIENT per element.
+    commanded_angle : array_like
+        Commanded path angle [rad]; an angle flatter than the polar allows is flown at the
+        flattest feasible angle (:func:`flattest_glide_angle`).
+    commanded_buoyancy : array_like
+        Commanded net buoyancy [N] (hold_angle).
+    commanded_speed : array_like
+        Horizontal speed through water to hold [m/s] (hold_speed, efficient).
+    density, reference_area, zero_lift_drag, induced_drag_factor, max_lift_coefficient
+        The (fouled) polar and the water [kg/m3], [m2], [-], [-], [-].
+    max_net_buoyancy : array_like
+        Largest net buoyancy the engine can give on this leg after trimming for the route's
+        density range [N] (:func:`physics.buoyancy_engine.trim_buoyancy_limit`).
+    pump_efficiency : array_like, optional
+        Pump efficiency eta [-] (efficient policy's objective).
+    overhead_per_tan : array_like, optional
+        Energy of the per-cycle overheads per unit of tan(gamma) per metre [J/m]: the cycle
+        overhead energy divided by twice the dive's depth range (efficient policy's
+        objective).
+
+    Returns
+    -------
+    GlideTrim
+
+    Notes
+    -----
+    hold_angle flies B_cmd at max(gamma_cmd, gamma_flat); B_cmd above the limit is
+    TRIM_ABOVE_ENGINE_LIMIT. hold_speed flies gamma = max(gamma_cmd, gamma_flat) with
+    B = rho S C_L u^2 / (2 cos^3 gamma) (:func:`net_buoyancy_for_speed`); B above the limit is
+    TRIM_ABOVE_ENGINE_LIMIT. efficient minimises the energy per distance
+    B tan(gamma) / eta + overhead_per_tan tan(gamma) (+ P_hotel / u, constant at a held
+    speed) over feasible angles (MODEL notes sec. 8) on a grid of 41 angles from gamma_flat to
+    atan(6 tan gamma_flat); when no angle holds the speed within the limit it flies the limit
+    at the angle of the highest horizontal speed (the speed drops, ``at_limit``), and fails
+    only when the limit leaves no net buoyancy at all.
+    """
+    (policy, gamma_cmd, b_cmd, u_cmd, rho, area, cd0, k, cl_max, b_max, eta,
+     overhead) = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+         policy, commanded_angle, commanded_buoyancy, commanded_speed, density,
+         reference_area, zero_lift_drag, induced_drag_factor, max_lift_coefficient,
+         max_net_buoyancy, pump_efficiency, overhead_per_tan)))
+    flat = flattest_glide_angle(cd0, k, cl_max) + _ANGLE_MARGIN
+    gamma = np.array(np.maximum(gamma_cmd, flat), dtype=float)
+    b_speed, _ = net_buoyancy_for_speed(gamma, u_cmd, rho, area, cd0, k,
+                                        max_lift_coefficient=cl_max)
+    b = np.array(np.where(policy == FLY_HOLD_SPEED, b_speed, b_cmd), dtype=float)
+    at_limit = np.zeros(gamma.shape, dtype=bool)
+    efficient = policy == FLY_EFFICIENT
+    if np.any(efficient):
+        g_e, b_e, lim_e = _efficient_trim(u_cmd[efficient], rho[efficient], area[efficient],
+                                          cd0[efficient], k[efficient], cl_max[efficient],
+                                          b_max[efficient], eta[efficient],
+                                          overhead[efficient], flat[efficient])
+        gamma[efficient], b[efficient], at_limit[efficient] = g_e, b_e, lim_e
+    state = np.where((b > b_max) | (b_max <= 0.0), TRIM_ABOVE_ENGINE_LIMIT,
+                     GLIDE_OK).astype(np.int8)
+    ok = state == GLIDE_OK
+    sol = steady_glide(gamma, np.where(ok, b, 0.0), rho, area, cd0, k,
+                       max_lift_coefficient=cl_max)
+    state = np.where(ok, sol.state, state).astype(np.int8)
+    ok = state == GLIDE_OK
+    retrimmed = (np.abs(gamma - gamma_cmd) > 1e-6) | (np.abs(b - b_cmd) > 1e-3 * b_cmd)
+    return GlideTrim(
+        glide_angle=gamma,
+        net_buoyancy=np.where(ok, b, 0.0),
+        horizontal_speed=np.where(ok, sol.horizontal_speed, 0.0),
+        vertical_speed=np.where(ok, sol.vertical_speed, 0.0),
+        retrimmed=ok & retrimmed,
+        at_limit=ok & at_limit,
+        state=state,
+    )
+
+
+def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
+    """Least-energy angle holding speed u within B <= b_max, on a grid (1-D inputs)."""
+    tan_grid = np.tan(flat)[:, None] * _TAU[None, :]
+    gamma = np.minimum(np.arctan(tan_grid), np.pi / 2.0 - 1e-6)
+    gamma[:, 0] = flat
+    col = (lambda a: a[:, None])
+    b, state = net_buoyancy_for_speed(gamma, col(u), col(rho), col(area), col(cd0), col(k),
+                                      max_lift_coefficient=col(cl_max))
+    feasible = (state == GLIDE_OK) & (b <= col(b_max))
+    cost = np.where(feasible, (b / col(eta) + col(overhead)) * np.tan(gamma), np.inf)
+    best = np.argmin(cost, axis=1)
+    rows = np.arange(u.size)
+    held = feasible[rows, best]
+    # fallback: the engine's limit at the angle of the highest horizontal speed
+    # (u = cos(gamma) sqrt(2 B cos(gamma) / (rho S C_L)) at fixed B: largest cos^3 / C_L)
+    unit = steady_glide(gamma, 1.0, col(rho), col(area), col(cd0), col(k),
+                        max_lift_coefficient=col(cl_max))
+    score = np.where(unit.state == GLIDE_OK,
+                     np.cos(gamma) ** 3 / np.where(unit.lift_coefficient > 0,
+                                                    unit.lift_coefficient, np.inf), -np.inf)
+    fastest = np.argmax(score, axis=1)
+    g = np.where(held, gamma[rows, best], gamma[rows, fastest])
+    b_out = np.where(held, b[rows, best], b_max)
+    return g, b_out, ~held

@@ -47,7 +47,7 @@ from physics import drag as _drag
 from physics import fouling as _fouling
 from physics import glide as _glide
 from physics import lift as _lift
-from physics.states import FailureMode
+from physics.states import FailureMode, FlightEvent
 
 __all__ = [
     "VehicleRates",
@@ -68,7 +68,13 @@ class VehicleRates(NamedTuple):
 
     power: np.ndarray  # [W]
     speed_through_water: np.ndarray  # horizontal, cycle-mean for a glider [m/s]
-    state: np.ndarray  # int8: FailureMode.NONE or FailureMode.INFEASIBLE_GLIDE
+    state: np.ndarray  # int8: FailureMode.NONE or the vehicle's own stop state
+    # velocity over ground the vehicle adds to the leg's current (a glider's drift while it
+    # is at the surface, cycle-mean) [m/s]
+    drift_along: np.ndarray | float = 0.0
+    drift_across: np.ndarray | float = 0.0
+    flags: np.ndarray | int = 0  # FlightEvent bits of this state
+    surfacing_rate: np.ndarray | float = 0.0  # surfacings per second [1/s]
 
 
 class RateModel(Protocol):
@@ -112,22 +118,34 @@ class PropellerRates:
 
 @dataclass(frozen=True)
 class GliderRates:
-    """Buoyancy glider on saw-tooth dive cycles at a commanded glide angle and net buoyancy.
+    """Buoyancy glider on saw-tooth dive cycles, trimmed by a pilot's flight policy.
 
     Fouling multiplies C_D0 by (1 + Delta_D phi) and the lift slope by (1 - Delta_L phi), which
-    raises the polar's K by 1/(1 - Delta_L phi)^2. The cycle-mean horizontal speed and power
-    come from :func:`physics.buoyancy_engine.dive_cycle`.
+    raises the polar's K by 1/(1 - Delta_L phi)^2. On each leg the flight policy
+    (:func:`physics.glide.glide_trim`) sets the angle and the net buoyancy within the engine's
+    limit; the cycle-mean horizontal speed and power, with surfacing every N dives, come from
+    :func:`physics.buoyancy_engine.dive_cycle`. While at the surface the vehicle moves with the
+    surface current instead of the dive band's: the difference, times the share of time at
+    the surface, is returned as a drift velocity.
 
     Parameters (arrays)
     ----------
-    glide_angle : [rad], (n,);  net_buoyancy : [N], (n,)
+    glide_angle : commanded [rad], (n,);  net_buoyancy : commanded [N], (n,)
     density : seawater density on each leg [kg/m3], (n, J)
     reference_area : polar reference area [m2], (n,)
     zero_lift_drag, induced_drag_factor, max_lift_coefficient : clean polar, (n,)
-    pump_efficiency : (n,);  hotel_load : [W], (n, J)
+    pump_efficiency : (n,);  hotel_load : [W], (n, J) (sensor payload included)
     top_depth, bottom_depth : dive band on each leg [m], (n, J)
     inflection_energy [J], inflection_time [s] : per inflection, (n,)
     drag_increase, lift_loss : at full fouling, (n,)
+    flight_policy : physics.glide FLY_* code on each leg, (n, J) (default hold_angle)
+    horizontal_speed : commanded horizontal speed through water [m/s], (n,)
+    max_net_buoyancy : engine limit on each leg after trimming for the route [N], (n, J)
+    stroke_fixed_energy : fixed cost per pump stroke [J], (n,)
+    dives_per_surfacing : N on each leg (inf: never, e.g. under ice), (n, J)
+    surface_time [s], surface_power [W] : per surfacing, (n,)
+    surface_drift_along, surface_drift_across : surface current minus the dive band's
+        current on each leg [m/s], (n, J)
     """
 
     glide_angle: np.ndarray
@@ -145,24 +163,67 @@ class GliderRates:
     inflection_time: np.ndarray
     drag_increase: np.ndarray
     lift_loss: np.ndarray
+    flight_policy: np.ndarray | int = _glide.FLY_HOLD_ANGLE
+    horizontal_speed: np.ndarray | float = 0.0
+    max_net_buoyancy: np.ndarray | float = np.inf
+    stroke_fixed_energy: np.ndarray | float = 0.0
+    dives_per_surfacing: np.ndarray | float = np.inf
+    surface_time: np.ndarray | float = 0.0
+    surface_power: np.ndarray | float = 0.0
+    surface_drift_along: np.ndarray | float = 0.0
+    surface_drift_across: np.ndarray | float = 0.0
 
     def __call__(self, leg: int, phi: np.ndarray) -> VehicleRates:
         cd0 = self.zero_lift_drag * _drag.fouling_drag_multiplier(phi, self.drag_increase)
         k = _lift.fouled_induced_drag_factor(self.induced_drag_factor, self.lift_loss * phi)
-        sol = _glide.steady_glide(
-            self.glide_angle, self.net_buoyancy, self.density[:, leg], self.reference_area,
-            cd0, k, max_lift_coefficient=self.max_lift_coefficient,
-        )
         top = self.top_depth[:, leg]
         bottom = self.bottom_depth[:, leg]
+        hotel = self.hotel_load[:, leg]
+        n_dives = _on_leg(self.dives_per_surfacing, leg)
+        policy = _on_leg(self.flight_policy, leg)
+        b_max = _on_leg(self.max_net_buoyancy, leg)
+        band = bottom - top
+        surfaces = np.isfinite(n_dives) & (n_dives > 0)
+        per_cycle = np.where(surfaces, self.surface_time / np.where(surfaces, n_dives, 1.0), 0.0)
+        overhead = (2.0 * (self.inflection_energy + hotel * self.inflection_time)
+                    + self.stroke_fixed_energy + (self.surface_power + hotel) * per_cycle)
+        trim = _glide.glide_trim(
+            policy, self.glide_angle, self.net_buoyancy, self.horizontal_speed,
+            self.density[:, leg], self.reference_area, cd0, k, self.max_lift_coefficient,
+            b_max, pump_efficiency=self.pump_efficiency,
+            overhead_per_tan=overhead / (2.0 * np.where(band > 0, band, 1.0)))
         cycle = _engine.dive_cycle(
-            sol.horizontal_speed, sol.vertical_speed, self.net_buoyancy, top, bottom,
-            self.pump_efficiency, self.hotel_load[:, leg],
+            trim.horizontal_speed, trim.vertical_speed, trim.net_buoyancy, top, bottom,
+            self.pump_efficiency, hotel,
             inflection_energy=self.inflection_energy, inflection_time=self.inflection_time,
+            stroke_fixed_energy=self.stroke_fixed_energy, dives_per_surfacing=n_dives,
+            surface_time=self.surface_time, surface_power=self.surface_power,
         )
-        ok = (sol.state == _glide.GLIDE_OK) & (bottom > top) & (cycle.time > 0)
-        state = np.where(ok, FailureMode.NONE, FailureMode.INFEASIBLE_GLIDE).astype(np.int8)
-        return VehicleRates(cycle.mean_power, cycle.mean_horizontal_speed, state)
+        trimmed = trim.state == _glide.GLIDE_OK
+        limited = trim.state == _glide.TRIM_ABOVE_ENGINE_LIMIT
+        cannot_trim = limited & ((b_max <= 0.0) | (policy == _glide.FLY_HOLD_ANGLE))
+        state = np.where(
+            limited, np.where(cannot_trim, FailureMode.CANNOT_TRIM,
+                              FailureMode.CANNOT_HOLD_FLIGHT),
+            np.where(trimmed & (band > 0) & (cycle.time > 0), FailureMode.NONE,
+                     FailureMode.INFEASIBLE_GLIDE)).astype(np.int8)
+        flags = (np.where(trim.retrimmed, FlightEvent.RETRIMMED, 0)
+                 | np.where(trim.at_limit, FlightEvent.AT_ENGINE_LIMIT, 0))
+        time = np.where(cycle.time > 0, cycle.time, np.inf)
+        return VehicleRates(
+            cycle.mean_power, cycle.mean_horizontal_speed, state,
+            drift_along=cycle.surface_fraction * _on_leg(self.surface_drift_along, leg),
+            drift_across=cycle.surface_fraction * _on_leg(self.surface_drift_across, leg),
+            flags=flags.astype(np.int8),
+            surfacing_rate=np.where(surfaces, 1.0 / (np.where(surfaces, n_dives, 1.0) * time),
+                                    0.0),
+        )
+
+
+def _on_leg(value, leg):
+    """Column ``leg`` of a per-leg (n, J) field; a per-sample or scalar field as it is."""
+    value = np.asarray(value)
+    return value[:, leg] if value.ndim == 2 else value
 
 
 @dataclass(frozen=True)
@@ -209,6 +270,8 @@ class TransitOutcome(NamedTuple):
     energy_per_distance: np.ndarray  # (n, J) per leg [J/m]; NaN for legs never reached
     route_energy_per_distance: np.ndarray  # energy drawn / distance flown on the route [J/m]
     route_length: np.ndarray  # [m]
+    flight_events: np.ndarray  # int8 FlightEvent bits seen along the route (policy actions)
+    surfacings: np.ndarray  # number of surfacings on the route (glider) [-]
 
 
 def fly_route(
@@ -226,6 +289,7 @@ def fly_route(
     extension: float = 0.5,
     extension_steps: int = 16,
     min_ground_speed: float = 0.01,
+    current_policy: np.ndarray | int = _currents.CRAB,
 ) -> TransitOutcome:
     """Fly every sample along the route and return its range, arrival and failure mode.
 
@@ -255,6 +319,10 @@ def fly_route(
         Ground speed [m/s] below which the vehicle is taken to have no headway (default
         1 cm/s, under 1 km a day: a vehicle crawling slower is lost to the mission; a
         modelling choice, common practice, no source). 0 gives the bare u_g <= 0 rule.
+    current_policy : array_like of int, (J,) or (n, J)
+        How each leg's cross current is met (:data:`physics.currents.CURRENT_POLICIES`):
+        crab to hold the track (default), drift and make the offset good later, or the
+        faster of the two.
 
     Returns
     -------
@@ -269,6 +337,7 @@ def fly_route(
     onset = np.broadcast_to(np.asarray(fouling_onset, dtype=float), (n,))
     tau = np.broadcast_to(np.asarray(fouling_time_constant, dtype=float), (n,))
     t_limit = np.broadcast_to(np.asarray(max_duration, dtype=float), (n,))
+    policy = np.broadcast_to(np.asarray(current_policy), shape)
 
     route = leg_length.sum(axis=1)
     x = np.zeros(n)
@@ -287,22 +356,28 @@ def fly_route(
     leg_energy = np.zeros(shape)
     leg_distance = np.zeros(shape)
     reached = np.zeros(shape, dtype=bool)
+    seen_events = np.zeros(n, dtype=np.int8)
+    surfacings = np.zeros(n)
+    probe = {}  # rates of the latest evaluation at all samples (for the event counts)
 
     def derivatives(leg, t_now, t_entry, clock_entry):
         """dt/dx, dE/dx and a stop code at time t_now on leg `leg` (all samples)."""
         c = clock_entry + growth[:, leg] * (t_now - t_entry)
         phi = _fouling.fouling_state(c, onset, tau)
         r = rates(leg, phi)
-        track = _currents.ground_track(r.speed_through_water, c_along[:, leg], c_across[:, leg])
+        track = _made_good(r, c_along[:, leg], c_across[:, leg], policy[:, leg])
+        probe["rate"] = np.broadcast_to(r.surfacing_rate, (n,))
+        probe["events"] = r.flags | np.where(track.drifting, FlightEvent.DRIFTED, 0)
         code = _stop_code(r.state, track, min_ground_speed)
         ug = np.where(code == FailureMode.NONE, track.ground_speed, 1.0)
         return 1.0 / ug, r.power / ug, code
 
     def one_leg(leg, h, n_steps, t_entry, clock_entry):
-        nonlocal x, t, energy
+        nonlocal x, t, energy, seen_events, surfacings
         k1t, k1e, code1 = derivatives(leg, t, t_entry, clock_entry)
         for _ in range(n_steps):
             x0, t0, e0 = x.copy(), t.copy(), energy.copy()
+            rate0, events0 = probe["rate"], probe["events"]
             k2t, k2e, code2 = derivatives(leg, t0 + 0.5 * h * k1t, t_entry, clock_entry)
             k3t, k3e, code3 = derivatives(leg, t0 + 0.5 * h * k2t, t_entry, clock_entry)
             k4t, k4e, code4 = derivatives(leg, t0 + h * k3t, t_entry, clock_entry)
@@ -311,6 +386,10 @@ def fly_route(
             k5t, k5e, code5 = derivatives(leg, t1, t_entry, clock_entry)
             bad = moving & ((code1 | code2 | code3 | code4 | code5) != FailureMode.NONE)
             ok = moving & ~bad
+            # policy actions and surfacings (trapezoid in time over the step: a count)
+            seen_events = np.where(ok, seen_events | events0 | probe["events"],
+                                   seen_events).astype(np.int8)
+            surfacings = surfacings + np.where(ok, 0.5 * (rate0 + probe["rate"]) * (t1 - t0), 0.0)
             # samples that can go on: take the step
             x = np.where(ok, x0 + h, x)
             t = np.where(ok, t1, t)
@@ -399,8 +478,7 @@ def fly_route(
             i, leg = self.idx, self.leg
             c = self.clock_entry + growth[i, leg] * (t_now - self.t_entry)
             r = self.rates_model(leg, _fouling.fouling_state(c, onset[i], tau[i]))
-            track = _currents.ground_track(r.speed_through_water, c_along[i, leg],
-                                           c_across[i, leg])
+            track = _made_good(r, c_along[i, leg], c_across[i, leg], policy[i, leg])
             return r.power, track.ground_speed, _stop_code(r.state, track, min_ground_speed)
 
         def integrate(self, ta, tb):
@@ -480,11 +558,12 @@ def fly_route(
         t_entry = t.copy()
         clock_entry = clock.copy()
         saved = (leg_energy[:, last].copy(), leg_distance[:, last].copy(), stop_x.copy(),
-                 stop_mode.copy(), stop_leg.copy(), time_x.copy(), time_leg.copy())
+                 stop_mode.copy(), stop_leg.copy(), time_x.copy(), time_leg.copy(),
+                 seen_events.copy(), surfacings.copy())
         one_leg(last, h, extension_steps, t_entry, clock_entry)
         # events past the route end do not change the verdict at the recovery point
         (leg_energy[:, last], leg_distance[:, last], stop_x, stop_mode, stop_leg,
-         time_x, time_leg) = saved
+         time_x, time_leg, seen_events, surfacings) = saved
     censored = np.isnan(range_x)
     range_x = np.where(censored, np.where(arrived, cap, x), range_x)
 
@@ -525,7 +604,15 @@ def fly_route(
         energy_per_distance=per_distance,
         route_energy_per_distance=route_per_distance,
         route_length=route,
+        flight_events=seen_events,
+        surfacings=surfacings,
     )
+
+
+def _made_good(r, current_along, current_across, policy):
+    """Track made good by rates ``r`` in a current, under the leg's current policy."""
+    return _currents.track_made_good(r.speed_through_water, current_along + r.drift_along,
+                                     current_across + r.drift_across, policy)
 
 
 def _stop_code(vehicle_state, track, min_ground_speed):

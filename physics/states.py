@@ -5,9 +5,9 @@ polar's minimum, no room between ice and seabed for a dive) is an outcome, never
 """
 from __future__ import annotations
 
-from enum import IntEnum
+from enum import IntEnum, IntFlag
 
-__all__ = ["FailureMode", "FAILURE_MODE_NAMES"]
+__all__ = ["FailureMode", "FAILURE_MODE_NAMES", "FlightEvent", "FLIGHT_EVENT_NAMES"]
 
 
 class FailureMode(IntEnum):
@@ -18,10 +18,15 @@ class FailureMode(IntEnum):
     ENERGY = 1
     #: current across/against track at least as strong as the vehicle: no ground speed
     NO_HEADWAY = 2
-    #: commanded glide angle below the (fouled) polar's minimum, stall, or no depth band
+    #: no steady glide at all (no depth band between the ice/surface and the seabed)
     INFEASIBLE_GLIDE = 3
     #: arrives, but later than the mission's duration limit
     TIME_LIMIT = 4
+    #: the buoyancy engine's swing cannot cover the route's density range (plus the net
+    #: buoyancy the policy needs at the least)
+    CANNOT_TRIM = 5
+    #: the flight policy needs a net buoyancy beyond the engine's limit and may not fall back
+    CANNOT_HOLD_FLIGHT = 6
 
 
 #: plain-language names for tables and the report
@@ -31,4 +36,26 @@ FAILURE_MODE_NAMES = {
     FailureMode.NO_HEADWAY: "no headway against current",
     FailureMode.INFEASIBLE_GLIDE: "infeasible glide",
     FailureMode.TIME_LIMIT: "over the duration limit",
+    FailureMode.CANNOT_TRIM: "cannot trim",
+    FailureMode.CANNOT_HOLD_FLIGHT: "cannot hold flight",
+}
+
+
+class FlightEvent(IntFlag):
+    """What a pilot did along the route (bits, OR-ed over the transit of one sample)."""
+
+    NONE = 0
+    #: glide angle or net buoyancy changed from the commanded setpoint
+    RETRIMMED = 1
+    #: the engine's limit capped the net buoyancy (the commanded speed was not held)
+    AT_ENGINE_LIMIT = 2
+    #: drifted across the track and made the offset good later
+    DRIFTED = 4
+
+
+#: plain-language names for tables and the report
+FLIGHT_EVENT_NAMES = {
+    FlightEvent.RETRIMMED: "re-trimmed",
+    FlightEvent.AT_ENGINE_LIMIT: "flew at the engine's limit",
+    FlightEvent.DRIFTED: "drifted across the track",
 }
