@@ -498,26 +498,30 @@ def glide_trim(policy, commanded_angle, commanded_buoyancy, commanded_speed, den
 
 
 def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
-    """Least-energy angle holding speed u within B <= b_max, on a grid (1-D inputs)."""
-    tan_grid = np.tan(flat)[:, None] * _TAU[None, :]
-    gamma = np.minimum(np.arctan(tan_grid), np.pi / 2.0 - 1e-6)
-    gamma[:, 0] = flat
+    """Least-energy angle holding speed u within B <= b_max, on a grid (1-D inputs).
+
+    The grid is tan(gamma) = tan(gamma_flat) tau; on it the efficient root is
+    C_L = 2 C_D0 / (t + sqrt(t^2 - 4 K C_D0)) (no stall: C_L falls as t rises from the
+    flattest angle) and B = rho S C_L u^2 (1 + t^2)^(3/2) / 2, the closed forms of
+    :func:`steady_glide` and :func:`net_buoyancy_for_speed` written out for speed.
+    """
     col = (lambda a: a[:, None])
-    b, state = net_buoyancy_for_speed(gamma, col(u), col(rho), col(area), col(cd0), col(k),
-                                      max_lift_coefficient=col(cl_max))
-    feasible = (state == GLIDE_OK) & (b <= col(b_max))
-    cost = np.where(feasible, (b / col(eta) + col(overhead)) * np.tan(gamma), np.inf)
+    t = np.tan(col(flat)) * _TAU[None, :]
+    disc = np.maximum(t * t - 4.0 * col(k) * col(cd0), 0.0)
+    cl = 2.0 * col(cd0) / (t + np.sqrt(disc))
+    secant3 = (1.0 + t * t) ** 1.5  # 1 / cos^3
+    b = 0.5 * col(rho) * col(area) * cl * col(u) ** 2 * secant3
+    feasible = b <= col(b_max)
+    cost = np.where(feasible, (b / col(eta) + col(overhead)) * t, np.inf)
     best = np.argmin(cost, axis=1)
     rows = np.arange(u.size)
     held = feasible[rows, best]
-    # fallback: the engine's limit at the angle of the highest horizontal speed
-    # (u = cos(gamma) sqrt(2 B cos(gamma) / (rho S C_L)) at fixed B: largest cos^3 / C_L)
-    unit = steady_glide(gamma, 1.0, col(rho), col(area), col(cd0), col(k),
-                        max_lift_coefficient=col(cl_max))
-    score = np.where(unit.state == GLIDE_OK,
-                     np.cos(gamma) ** 3 / np.where(unit.lift_coefficient > 0,
-                                                    unit.lift_coefficient, np.inf), -np.inf)
-    fastest = np.argmax(score, axis=1)
-    g = np.where(held, gamma[rows, best], gamma[rows, fastest])
-    b_out = np.where(held, b[rows, best], b_max)
+    g = np.arctan(t[rows, best])
+    b_out = b[rows, best]
+    if not held.all():
+        # fallback: the engine's limit at the angle of the highest horizontal speed; at fixed
+        # B, u = sqrt(2 B / (rho S C_L (1 + t^2)^(3/2))): the largest 1 / (C_L secant^3)
+        fastest = np.argmax(1.0 / (cl * secant3), axis=1)
+        g = np.where(held, g, np.arctan(t[rows, fastest]))
+        b_out = np.where(held, b_out, b_max)
     return g, b_out, ~held

@@ -187,11 +187,15 @@ class GliderRates:
         per_cycle = np.where(surfaces, self.surface_time / np.where(surfaces, n_dives, 1.0), 0.0)
         overhead = (2.0 * (self.inflection_energy + hotel * self.inflection_time)
                     + self.stroke_fixed_energy + (self.surface_power + hotel) * per_cycle)
-        trim = _glide.glide_trim(
-            policy, self.glide_angle, self.net_buoyancy, self.horizontal_speed,
-            self.density[:, leg], self.reference_area, cd0, k, self.max_lift_coefficient,
-            b_max, pump_efficiency=self.pump_efficiency,
-            overhead_per_tan=overhead / (2.0 * np.where(band > 0, band, 1.0)))
+        def trim_with(zero_lift_drag, induced_drag_factor):
+            return _glide.glide_trim(
+                policy, self.glide_angle, self.net_buoyancy, self.horizontal_speed,
+                self.density[:, leg], self.reference_area, zero_lift_drag, induced_drag_factor,
+                self.max_lift_coefficient, b_max, pump_efficiency=self.pump_efficiency,
+                overhead_per_tan=overhead / (2.0 * np.where(band > 0, band, 1.0)))
+
+        trim = trim_with(cd0, k)
+        clean = trim_with(self.zero_lift_drag, self.induced_drag_factor)
         cycle = _engine.dive_cycle(
             trim.horizontal_speed, trim.vertical_speed, trim.net_buoyancy, top, bottom,
             self.pump_efficiency, hotel,
@@ -207,7 +211,11 @@ class GliderRates:
                               FailureMode.CANNOT_HOLD_FLIGHT),
             np.where(trimmed & (band > 0) & (cycle.time > 0), FailureMode.NONE,
                      FailureMode.INFEASIBLE_GLIDE)).astype(np.int8)
-        flags = (np.where(trim.retrimmed, FlightEvent.RETRIMMED, 0)
+        # re-trimmed for fouling: 10 % more net buoyancy or 0.5 deg steeper than the clean
+        # vehicle would fly on this leg (thresholds: a reporting choice)
+        for_fouling = trimmed & ((trim.net_buoyancy > 1.1 * clean.net_buoyancy)
+                                 | (trim.glide_angle > clean.glide_angle + _RETRIM_ANGLE))
+        flags = (np.where(for_fouling, FlightEvent.RETRIMMED, 0)
                  | np.where(trim.at_limit, FlightEvent.AT_ENGINE_LIMIT, 0))
         time = np.where(cycle.time > 0, cycle.time, np.inf)
         return VehicleRates(
@@ -218,6 +226,9 @@ class GliderRates:
             surfacing_rate=np.where(surfaces, 1.0 / (np.where(surfaces, n_dives, 1.0) * time),
                                     0.0),
         )
+
+
+_RETRIM_ANGLE = np.deg2rad(0.5)
 
 
 def _on_leg(value, leg):

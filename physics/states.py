@@ -45,7 +45,8 @@ class FlightEvent(IntFlag):
     """What a pilot did along the route (bits, OR-ed over the transit of one sample)."""
 
     NONE = 0
-    #: glide angle or net buoyancy changed from the commanded setpoint
+    #: re-trimmed for fouling: at least 10 % more net buoyancy, or a glide at least 0.5 deg
+    #: steeper, than the clean vehicle's trim on that leg
     RETRIMMED = 1
     #: the engine's limit capped the net buoyancy (the commanded speed was not held)
     AT_ENGINE_LIMIT = 2
@@ -55,7 +56,7 @@ class FlightEvent(IntFlag):
 
 #: plain-language names for tables and the report
 FLIGHT_EVENT_NAMES = {
-    FlightEvent.RETRIMMED: "re-trimmed",
+    FlightEvent.RETRIMMED: "re-trimmed for fouling",
     FlightEvent.AT_ENGINE_LIMIT: "flew at the engine's limit",
     FlightEvent.DRIFTED: "drifted across the track",
 }

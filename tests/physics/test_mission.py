@@ -164,31 +164,37 @@ def test_clean_glider_range_matches_energy_per_distance():
 
 def test_glider_fouling_steepens_the_glide_where_theory_says():
     # derived: the polar's minimum angle tan(g_min) = 2 sqrt(K' C_D0') (MODEL.md s4) with
-    # C_D0' = C_D0 (1 + D phi), K' = K / (1 - L phi)^2; past phi* the commanded angle is too
-    # flat and the pilot flies the flattest feasible angle instead (MODEL.md s8): the glider
-    # is re-trimmed there and not before, and is never stopped by it
+    # C_D0' = C_D0 (1 + D phi), K' = K / (1 - L phi)^2; past phi* the commanded 25 deg is too
+    # flat and the pilot flies the flattest feasible angle instead (MODEL.md s8). The event
+    # "re-trimmed for fouling" is reported once the glide is 0.5 deg steeper than commanded,
+    # at phi** (g_min = 25.5 deg): not before x*, and by x**. The glider is never stopped.
     angle, cd0, k, dd, dl = 25.0, 0.08, 0.4, 0.6, 0.3
     onset, tau = 5 * DAY, 20 * DAY
     rates = _glider(1, 1, angle_deg=angle, cd0=cd0, k=k, drag_increase=dd, lift_loss=dl)
-    tan_g = np.tan(np.deg2rad(angle))
-    phi_star = optimize.brentq(
-        lambda p: 2 * np.sqrt(k / (1 - dl * p) ** 2 * cd0 * (1 + dd * p)) - tan_g, 0.0, 1.0)
-    t_star = onset - tau * np.log1p(-phi_star)
+
+    def phi_at(deg):
+        tan_g = np.tan(np.deg2rad(deg))
+        return optimize.brentq(
+            lambda p: 2 * np.sqrt(k / (1 - dl * p) ** 2 * cd0 * (1 + dd * p)) - tan_g, 0.0, 1.0)
 
     def speed(t):
         p = fouling.fouling_state(t, onset, tau)
-        s = glide.steady_glide(np.deg2rad(angle), 1.5, 1027.0, 0.1, cd0 * (1 + dd * p),
-                               lift.fouled_induced_drag_factor(k, dl * p),
-                               max_lift_coefficient=1.0)
-        c = buoyancy_engine.dive_cycle(s.horizontal_speed, s.vertical_speed, 1.5, 0.0, 1000.0,
-                                       0.27, 0.4, inflection_energy=20.0)
-        return float(c.mean_horizontal_speed)
+        c, kk = cd0 * (1 + dd * p), lift.fouled_induced_drag_factor(k, dl * p)
+        g = max(np.deg2rad(angle), float(glide.minimum_glide_angle(c, kk)) + 1e-9)
+        s = glide.steady_glide(g, 1.5, 1027.0, 0.1, c, kk, max_lift_coefficient=1.0)
+        cyc = buoyancy_engine.dive_cycle(s.horizontal_speed, s.vertical_speed, 1.5, 0.0,
+                                         1000.0, 0.27, 0.4, inflection_energy=20.0)
+        return float(cyc.mean_horizontal_speed)
 
-    x_star, _ = integrate.quad(speed, 0.0, t_star * (1 - 1e-9), limit=200)
-    # the events are read at step ends; 0.5 % either side of x* is far outside the path error
+    def distance_at(phi):
+        t = onset - tau * np.log1p(-phi)
+        return integrate.quad(speed, 0.0, t, limit=200, points=[onset])[0]
+
+    x_star, x_flag = distance_at(phi_at(angle)), distance_at(phi_at(angle + 0.5))
+    # events are read at step ends; 0.5 % either side is far outside the path error
     before = _fly(rates, _battery(1, 1e12), 0.995 * x_star, onset=onset, tau=tau,
                   extension=0.0)
-    after = _fly(rates, _battery(1, 1e12), 1.005 * x_star, onset=onset, tau=tau,
+    after = _fly(rates, _battery(1, 1e12), 1.005 * x_flag, onset=onset, tau=tau,
                  extension=0.0)
     assert not before.flight_events[0] & FlightEvent.RETRIMMED
     assert after.flight_events[0] & FlightEvent.RETRIMMED
