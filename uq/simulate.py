@@ -10,7 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from physics import drag, lift, mission, seawater
+from physics import buoyancy_engine, currents, drag, glide, lift, mission, seawater
 from physics.states import FAILURE_MODE_NAMES, FailureMode
 from uq.scenario import (
     DragCoefficient,
@@ -103,17 +103,60 @@ def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> missi
     )
 
 
-def _glider_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.GliderRates:
+_FLIGHT_CODES = {name: code for code, name in glide.FLIGHT_POLICIES.items()}
+_CURRENT_CODES = {name: code for code, name in currents.CURRENT_POLICIES.items()}
+
+
+def _depth_band(scenario: Scenario, f: _Fields) -> tuple[np.ndarray, np.ndarray]:
+    """Top and bottom [m] of the water the vehicle is in on each leg, (n, J) each."""
+    sp = scenario.setpoint
+    if scenario.vehicle.kind == "propeller":
+        depth = np.broadcast_to(f(sp.depth_m)[:, None], (f.n, len(scenario.legs)))
+        return depth, depth
+    top = np.maximum(f(sp.top_depth_m)[:, None], f.legs(scenario.legs, "ice_ceiling_m"))
+    bottom = np.minimum(f(sp.bottom_depth_m)[:, None], f.legs(scenario.legs, "seabed_m"))
+    return top, bottom
+
+
+def _leg_currents(scenario: Scenario, f: _Fields, top: np.ndarray, bottom: np.ndarray):
+    """Along/across current over the depth band and at the surface, (n, J) each [m/s]."""
+    legs = scenario.legs
+    layer = f.legs(legs, "surface_layer_m")
+    out = []
+    for component in ("along", "across"):
+        deep = f.legs(legs, f"current_{component}_m_s")
+        key = f"surface_current_{component}_m_s"
+        surface = np.column_stack([deep[:, j] if getattr(leg, key) is None else f(getattr(leg, key))
+                                   for j, leg in enumerate(legs)])
+        band = currents.layered_current(surface, deep, layer, top, np.maximum(bottom, top))
+        out += [band, surface]
+    return out  # along, surface along, across, surface across
+
+
+def _glider_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray, top: np.ndarray,
+                  bottom: np.ndarray, water_currents) -> mission.GliderRates:
     vehicle: GliderVehicle = scenario.vehicle
     polar = vehicle.polar
     sp = scenario.setpoint
-    top = np.maximum(f(sp.top_depth_m)[:, None], f.legs(scenario.legs, "ice_ceiling_m"))
-    bottom = np.minimum(f(sp.bottom_depth_m)[:, None], f.legs(scenario.legs, "seabed_m"))
+    legs = scenario.legs
     rho, _ = _leg_water(scenario, f, 0.5 * (top + np.maximum(bottom, top)))
     if polar.induced_drag_factor is not None:
         k = f(polar.induced_drag_factor)
     else:
         k = lift.induced_drag_factor(f(polar.aspect_ratio), f(polar.span_efficiency))
+    if vehicle.max_pumped_volume_L is not None:
+        rho_top, _ = _leg_water(scenario, f, top)
+        rho_bottom, _ = _leg_water(scenario, f, np.maximum(bottom, top))
+        limit = buoyancy_engine.trim_buoyancy_limit(
+            f(vehicle.max_pumped_volume_L) / 1000.0, f(vehicle.hull_volume_L) / 1000.0,
+            rho_top, rho_bottom)
+    else:
+        limit = np.full(rho.shape, np.inf)
+    policy = np.array([_FLIGHT_CODES[leg.flight_policy or sp.flight_policy] for leg in legs])
+    dives = f.legs(legs, "dives_per_surfacing", fallback=np.full(f.n, np.inf))
+    dives = np.where(f.legs(legs, "ice_ceiling_m") > 0.0, np.inf, dives)  # no surfacing under ice
+    payload = f.legs(legs, "payload_power_W") * f.legs(legs, "payload_duty_cycle")
+    along, surface_along, across, surface_across = water_currents
     return mission.GliderRates(
         glide_angle=np.deg2rad(f(sp.glide_angle_deg)),
         net_buoyancy=f(sp.net_buoyancy_N),
@@ -123,23 +166,34 @@ def _glider_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.
         induced_drag_factor=k,
         max_lift_coefficient=f(polar.max_lift_coefficient),
         pump_efficiency=f(vehicle.pump_efficiency),
-        hotel_load=hotel,
+        hotel_load=hotel + payload,
         top_depth=top,
         bottom_depth=bottom,
         inflection_energy=f(vehicle.inflection_energy_J),
         inflection_time=f(vehicle.inflection_time_s),
         drag_increase=f(scenario.fouling.drag_increase),
         lift_loss=f(scenario.fouling.lift_loss),
+        flight_policy=np.broadcast_to(policy, rho.shape),
+        horizontal_speed=f(sp.horizontal_speed_m_s, 0.0),
+        max_net_buoyancy=limit,
+        stroke_fixed_energy=f(vehicle.pump_stroke_fixed_energy_J),
+        dives_per_surfacing=dives,
+        surface_time=f(vehicle.surface_time_s),
+        surface_power=f(vehicle.surface_power_W),
+        surface_drift_along=surface_along - along,
+        surface_drift_across=surface_across - across,
     )
 
 
 def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOutcome:
     f = _Fields(scenario, x)
     hotel = f.legs(scenario.legs, "hotel_load_W", fallback=f(scenario.vehicle.hotel_load_W))
+    top, bottom = _depth_band(scenario, f)
+    water = _leg_currents(scenario, f, top, bottom)
     if scenario.vehicle.kind == "propeller":
         rates = _propeller_rates(scenario, f, hotel)
     else:
-        rates = _glider_rates(scenario, f, hotel)
+        rates = _glider_rates(scenario, f, hotel, top, bottom, water)
     b = scenario.battery
     battery = mission.BatteryState(
         nominal_energy=f(b.nominal_energy_Wh) * _J_PER_WH,
@@ -153,8 +207,9 @@ def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOut
         rates,
         battery,
         leg_length=f.legs(scenario.legs, "length_km") * 1000.0,
-        current_along=f.legs(scenario.legs, "current_along_m_s"),
-        current_across=f.legs(scenario.legs, "current_across_m_s"),
+        current_along=water[0],
+        current_across=water[2],
+        current_policy=np.array([_CURRENT_CODES[leg.current_policy] for leg in scenario.legs]),
         fouling_growth_factor=f.legs(scenario.legs, "fouling_growth_factor"),
         fouling_onset=f(fo.onset_days) * SECONDS_PER_DAY,
         fouling_time_constant=f(fo.time_constant_days) * SECONDS_PER_DAY,
@@ -170,7 +225,9 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, n
     the pack is truly empty, possibly on its reserve), ``success``, ``failure_mode``,
     ``failing_leg``, ``duration_days``, ``margin_Wh``, ``margin_fraction``,
     ``energy_per_km_Wh`` (n, J), ``route_energy_per_km_Wh`` (energy drawn over distance
-    flown on the route) and ``route_km``.
+    flown on the route), ``route_km``, ``flight_events`` (int8 bits of
+    :class:`physics.states.FlightEvent`: re-trimmed, at the engine's limit, drifted) and
+    ``surfacings`` (number of surfacings on the route).
     """
     out = _transit(scenario, x, **options)
     return {
@@ -187,6 +244,8 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, n
         "energy_per_km_Wh": out.energy_per_distance * (1000.0 / _J_PER_WH),
         "route_energy_per_km_Wh": out.route_energy_per_distance * (1000.0 / _J_PER_WH),
         "route_km": out.route_length / 1000.0,
+        "flight_events": out.flight_events,
+        "surfacings": out.surfacings,
     }
 
 

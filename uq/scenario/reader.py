@@ -20,6 +20,7 @@ form a positive-definite matrix both as given and as the normal-copula matrix 2 
 from __future__ import annotations
 
 
+import datetime
 import difflib
 import hashlib
 import math
@@ -190,6 +191,14 @@ SALINITY = _Range("a practical salinity (PSS-78)", 0.0, 42.0, True, False)
 PROBABILITY = _Range("a probability", 0.0, 1.0)
 MONEY = _Range("an amount of money", 0.0, lo_open=False)
 CORRELATION = _Range("a rank correlation", -1.0, 1.0)
+POSITIVE_L = _Range("a volume [L]", 0.0)
+DIVES = _Range("a number of dives per surfacing", 0.0, allow_inf=True)
+DUTY = _Range("a duty cycle", 0.0, 1.0, False, False)
+NONNEG_SPEED = _Range("a speed through water [m/s]", 0.0)
+SHIP_DAYS = _Range("a number of days", 0.0, lo_open=False)
+FLIGHT_POLICIES = ("hold_angle", "hold_speed", "efficient")
+CURRENT_POLICIES = ("crab", "drift", "crab_or_drift")
+SHIP_BOOKINGS = ("on_station", "recovery_window")
 
 _LEG_NAME = re.compile(r"[A-Za-z0-9_-]+")
 _PLAIN_KEY = re.compile(r"[A-Za-z0-9_-]+")
@@ -410,6 +419,15 @@ class _Reader:
 
         if kind == "glider":
             self.glider_windows(parsed["setpoint"], parsed["legs"])
+            self.glider_policies(parsed["setpoint"], parsed["legs"])
+        else:
+            for i, item in enumerate(doc["legs"]):
+                for key in ("flight_policy", "dives_per_surfacing", "payload_power_W",
+                            "payload_duty_cycle"):
+                    if isinstance(item, Mapping) and key in item:
+                        self.fail(f"legs.{item.get('name', i)}.{key}", item[key],
+                                  "a key of a propeller vehicle's leg ({key!r} belongs to "
+                                  "kind = 'glider')".replace("{key!r}", repr(key)))
         correlations = self.correlations_check(parsed.get("correlations", ()))
         decision: Decision = parsed.get("decision", Decision())
         for i, test in enumerate(decision.tests):
@@ -456,6 +474,11 @@ class _Reader:
             "inflection_energy_J": lambda r, v, p: r.number(v, p, NONNEG_J),
             "inflection_time_s": lambda r, v, p: r.number(v, p, NONNEG_S),
             "polar": lambda r, v, p: r.polar(v, p),
+            "max_pumped_volume_L": lambda r, v, p: r.number(v, p, POSITIVE_L),
+            "hull_volume_L": lambda r, v, p: r.number(v, p, POSITIVE_L),
+            "pump_stroke_fixed_energy_J": lambda r, v, p: r.number(v, p, NONNEG_J),
+            "surface_time_s": lambda r, v, p: r.number(v, p, NONNEG_S),
+            "surface_power_W": lambda r, v, p: r.number(v, p, NONNEG_W),
         }
         mine, theirs, other = (propeller, glider, "glider") if kind == "propeller" else (glider, propeller, "propeller")
         other_kind = {k: f"kind = {other!r}" for k in theirs}
@@ -475,6 +498,12 @@ class _Reader:
         out = self.read_fields(table, "vehicle", {**common, **mine},
                                ("name", "hotel_load_W", "pump_efficiency", "polar"),
                                other_kind=other_kind, skip=("kind",))
+        engine = [k for k in ("max_pumped_volume_L", "hull_volume_L") if k in out]
+        if len(engine) == 1:
+            missing = ({"max_pumped_volume_L", "hull_volume_L"} - set(engine)).pop()
+            self.fail(f"vehicle.{missing}", MISSING,
+                      f"vehicle.{missing} together with vehicle.{engine[0]} (the trim check "
+                      "needs the engine's swing and the hull's displaced volume)")
         return GliderVehicle(**out)
 
     def hull(self, value: Any, path: str) -> HullGeometry:
@@ -548,13 +577,17 @@ class _Reader:
             "net_buoyancy_N": lambda r, v, p: r.number(v, p, POSITIVE_N),
             "top_depth_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
             "bottom_depth_m": lambda r, v, p: r.number(v, p, _Range("a depth [m]", 0.0)),
+            "flight_policy": lambda r, v, p: r.choice(v, p, FLIGHT_POLICIES, what="the flight policy"),
+            "horizontal_speed_m_s": lambda r, v, p: r.number(v, p, NONNEG_SPEED),
         }
         if kind == "propeller":
             other = {k: "a glider's [setpoint]" for k in glider}
             out = self.read_fields(table, "setpoint", propeller, ("speed_m_s",), other_kind=other)
             return PropellerSetpoint(**out)
         other = {k: "a propeller vehicle's [setpoint]" for k in propeller}
-        out = self.read_fields(table, "setpoint", glider, tuple(glider), other_kind=other)
+        out = self.read_fields(table, "setpoint", glider,
+                               ("glide_angle_deg", "net_buoyancy_N", "top_depth_m", "bottom_depth_m"),
+                               other_kind=other)
         self.below(out["top_depth_m"], "setpoint.top_depth_m", out["bottom_depth_m"], "setpoint.bottom_depth_m",
                    blame="b", relation="a bottom depth deeper than setpoint.top_depth_m")
         return GliderSetpoint(**out)
@@ -589,6 +622,14 @@ class _Reader:
             "seabed_m": lambda r, v, p: r.number(v, p, POSITIVE_DEPTH),
             "fouling_growth_factor": lambda r, v, p: r.number(v, p, GROWTH),
             "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
+            "current_policy": lambda r, v, p: r.choice(v, p, CURRENT_POLICIES, what="the current policy"),
+            "surface_current_along_m_s": lambda r, v, p: r.number(v, p, CURRENT),
+            "surface_current_across_m_s": lambda r, v, p: r.number(v, p, CURRENT),
+            "surface_layer_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
+            "flight_policy": lambda r, v, p: r.choice(v, p, FLIGHT_POLICIES, what="the flight policy"),
+            "dives_per_surfacing": lambda r, v, p: r.number(v, p, DIVES),
+            "payload_power_W": lambda r, v, p: r.number(v, p, NONNEG_W),
+            "payload_duty_cycle": lambda r, v, p: r.number(v, p, DUTY),
         }
         seen: dict[str, int] = {}
         legs = []
@@ -619,6 +660,16 @@ class _Reader:
             self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", setpoint.bottom_depth_m,
                        "setpoint.bottom_depth_m", blame="a",
                        relation="an ice ceiling shallower than setpoint.bottom_depth_m (no room to glide)")
+
+    def glider_policies(self, setpoint: GliderSetpoint, legs: tuple[Leg, ...]) -> None:
+        """A re-trim policy needs the horizontal speed it holds."""
+        if setpoint.horizontal_speed_m_s is not None:
+            return
+        for where, policy in [("setpoint.flight_policy", setpoint.flight_policy)] + [
+                (f"legs.{leg.name}.flight_policy", leg.flight_policy) for leg in legs]:
+            if policy in ("hold_speed", "efficient"):
+                self.fail("setpoint.horizontal_speed_m_s", MISSING,
+                          f"a horizontal speed to hold ({where} = {policy!r} re-trims for it)")
 
     def correlations_raw(self, value: Any) -> list[tuple[int, tuple[str, str], float]]:
         if not isinstance(value, (list, tuple)):
@@ -677,8 +728,29 @@ class _Reader:
             "cost_of_failure": plain(MONEY),
             "cost_of_no_go": plain(MONEY),
             "tests": lambda r, v, p: r.tests(v, p),
+            "ship_booking": lambda r, v, p: r.choice(v, p, SHIP_BOOKINGS, what="how the ship is booked"),
+            "deployment_date": lambda r, v, p: r.date(v, p),
+            "recovery_window": lambda r, v, p: r.quantile_pair(v, p),
+            "ship_transit_days": plain(SHIP_DAYS),
         }
-        return Decision(**self.read_fields(table, "decision", fields))
+        out = self.read_fields(table, "decision", fields)
+        if out.get("ship_booking") == "recovery_window" and "deployment_date" not in out:
+            self.fail("decision.deployment_date", MISSING,
+                      "a deployment date (e.g. 2027-04-12) for ship_booking = 'recovery_window'")
+        return Decision(**out)
+
+    def date(self, value: Any, path: str) -> datetime.date:
+        if isinstance(value, datetime.datetime) or not isinstance(value, datetime.date):
+            self.fail(path, value, "a TOML local date such as 2027-04-12 (no quotes, no time)")
+        return value
+
+    def quantile_pair(self, value: Any, path: str) -> tuple[float, float]:
+        ok = (isinstance(value, (list, tuple)) and len(value) == 2
+              and all(_is_number(q) and 0.0 < float(q) < 1.0 for q in value)
+              and float(value[0]) < float(value[1]))
+        if not ok:
+            self.fail(path, value, "two arrival quantiles in (0, 1), earliest first, e.g. [0.05, 0.95]")
+        return (float(value[0]), float(value[1]))
 
     def currency(self, value: Any, path: str) -> str:
         if not isinstance(value, str) or not _CURRENCY.fullmatch(value):

@@ -11,6 +11,7 @@ Instances come from :func:`uq.scenario.load_scenario` / :func:`uq.scenario.parse
 """
 from __future__ import annotations
 
+import datetime
 from dataclasses import dataclass, field
 from typing import Union
 
@@ -83,6 +84,14 @@ class GliderVehicle:
     polar: GliderPolar
     inflection_energy_J: Value = 0.0
     inflection_time_s: Value = 0.0
+    # buoyancy engine: full swing of pumped oil and displaced hull volume (both or neither;
+    # without them there is no engine limit and no trim check)
+    max_pumped_volume_L: Value | None = None
+    hull_volume_L: Value | None = None
+    pump_stroke_fixed_energy_J: Value = 0.0  # fixed cost per stroke (motor start, valves)
+    # at each surfacing: position fix and satellite link
+    surface_time_s: Value = 0.0
+    surface_power_W: Value = 0.0  # on top of the hotel load
     kind: str = field(default="glider", init=False)
 
 
@@ -107,6 +116,11 @@ class GliderSetpoint:
     net_buoyancy_N: Value
     top_depth_m: Value
     bottom_depth_m: Value
+    # "hold_angle" (angle and net buoyancy fixed), "hold_speed" (angle fixed, net buoyancy
+    # re-trimmed for the speed) or "efficient" (speed held at the least-energy angle);
+    # a leg may override it
+    flight_policy: str = "hold_angle"
+    horizontal_speed_m_s: Value | None = None  # through water, held by the re-trim policies
 
 
 @dataclass(frozen=True)
@@ -129,6 +143,17 @@ class Leg:
     seabed_m: Value = float("inf")  # deepest allowed depth (seabed less clearance)
     fouling_growth_factor: Value = 1.0  # fouling clock rate on this leg
     hotel_load_W: Value | None = None  # override of the vehicle hotel load
+    # "crab" (hold the track), "drift" (make the offset good later) or "crab_or_drift"
+    current_policy: str = "crab"
+    # two-layer current profile: the surface value holds from 0 to surface_layer_m, the
+    # current_*_m_s values below it (None: the same current at every depth)
+    surface_current_along_m_s: Value | None = None
+    surface_current_across_m_s: Value | None = None
+    surface_layer_m: Value = 0.0
+    flight_policy: str | None = None  # glider: override of setpoint.flight_policy
+    dives_per_surfacing: Value | None = None  # glider: None = never (always under an ice ceiling)
+    payload_power_W: Value = 0.0  # glider sensor payload power while sampling
+    payload_duty_cycle: Value = 1.0  # share of the time the payload samples
 
 
 @dataclass(frozen=True)
@@ -164,6 +189,13 @@ class Decision:
     cost_of_failure: float | None = None
     cost_of_no_go: float | None = None
     tests: tuple[TestCandidate, ...] = ()
+    # "on_station": the ship stays with the vehicle for the whole transit (book a quantile of
+    # the arrival time); "recovery_window": the ship comes only for the recovery (book the
+    # window between two arrival quantiles plus its own transit days)
+    ship_booking: str = "on_station"
+    deployment_date: datetime.date | None = None
+    recovery_window: tuple[float, float] = (0.05, 0.95)  # arrival quantiles bounding the window
+    ship_transit_days: float = 0.0  # the ship's own passage to and from the recovery point
 
 
 @dataclass(frozen=True)
