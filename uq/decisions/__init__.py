@@ -24,7 +24,15 @@ from .comparison import (
     paired_comparison,
     sweep_summary,
 )
-from .contingency import BookingRow, ShipTimeContingency, ship_time_contingency
+from .contingency import (
+    ArrivalRow,
+    BookingRow,
+    RecoveryWindowBooking,
+    ShipTimeContingency,
+    recovery_window_booking,
+    ship_time_contingency,
+)
+from .flight import PilotActionRow, PilotActions, pilot_actions
 from .value_of_information import (
     SOBOL_BASIS,
     VOI_BASIS,
@@ -65,6 +73,13 @@ __all__ = [
     "BookingRow",
     "ShipTimeContingency",
     "ship_time_contingency",
+    "ArrivalRow",
+    "RecoveryWindowBooking",
+    "recovery_window_booking",
+    # pilot actions (gliders)
+    "PilotActionRow",
+    "PilotActions",
+    "pilot_actions",
     # value of information
     "NetBenefit",
     "ValueOfInformation",

@@ -27,7 +27,8 @@ from ._common import (
     _wilson,
 )
 
-__all__ = ["BookingRow", "ShipTimeContingency", "ship_time_contingency"]
+__all__ = ["ArrivalRow", "BookingRow", "RecoveryWindowBooking", "ShipTimeContingency",
+           "recovery_window_booking", "ship_time_contingency"]
 
 
 @dataclass(frozen=True)
@@ -234,4 +235,194 @@ def ship_time_contingency(
         not_arrived=n - m,
         confidence=confidence,
         sentence=sentence,
+    )
+
+
+@dataclass(frozen=True)
+class ArrivalRow:
+    """One arrival-time quantile: days after deployment [d] and the calendar date, with the
+    distribution-free interval (``None`` bounds when the sample is too small)."""
+
+    quantile: float
+    days: float
+    days_low: float | None
+    days_high: float | None
+    date: str
+    date_low: str | None
+    date_high: str | None
+
+
+@dataclass(frozen=True)
+class RecoveryWindowBooking(_ResultMixin):
+    """Ship booked for the recovery window only (the vehicle transits on its own).
+
+    Attributes
+    ----------
+    deployment_date : str
+        ISO date of the deployment.
+    window_quantiles : tuple of float
+        Arrival quantiles bounding the window [-].
+    arrivals : tuple of ArrivalRow
+        Arrival at the window's bounds and the median.
+    window_days, window_days_low, window_days_high : float
+        Length of the window between the two arrival quantiles [d]; the interval is the
+        widest and narrowest window the two quantile intervals allow (conservative).
+    ship_transit_days : float
+        The ship's own passage out and back [d].
+    booking_days, booking_days_low, booking_days_high : float
+        Ship time booked = window + passage [d].
+    booking_cost, booking_cost_low, booking_cost_high : float
+        booking x day rate [currency].
+    on_station_days : float
+        What keeping the ship with the vehicle to the window's late end would book [d]
+        (for comparison).
+    day_rate : float
+    currency : str
+    probability_of_arrival, probability_of_arrival_low, probability_of_arrival_high : float
+    samples, arrived : int
+    confidence : float
+    sentence : str
+    """
+
+    deployment_date: str
+    window_quantiles: tuple[float, float]
+    arrivals: tuple[ArrivalRow, ...]
+    window_days: float
+    window_days_low: float | None
+    window_days_high: float | None
+    ship_transit_days: float
+    booking_days: float
+    booking_days_low: float | None
+    booking_days_high: float | None
+    booking_cost: float
+    booking_cost_low: float | None
+    booking_cost_high: float | None
+    on_station_days: float
+    day_rate: float
+    currency: str
+    probability_of_arrival: float
+    probability_of_arrival_low: float
+    probability_of_arrival_high: float
+    samples: int
+    arrived: int
+    confidence: float
+    sentence: str
+
+    def to_frame(self):
+        """Arrival quantiles with their dates (pandas DataFrame)."""
+        return _rows_frame(self.arrivals)
+
+
+def _date_after(start, days: float | None) -> str | None:
+    import datetime
+
+    if days is None:
+        return None
+    return (start + datetime.timedelta(days=float(days))).isoformat()
+
+
+def recovery_window_booking(
+    arrival_days,
+    *,
+    arrived,
+    deployment_date,
+    window_quantiles: tuple[float, float],
+    ship_transit_days: float,
+    day_rate: float,
+    currency: str,
+    confidence: float,
+) -> RecoveryWindowBooking:
+    """Ship time for a recovery window between two arrival quantiles, plus the ship's passage.
+
+    Parameters
+    ----------
+    arrival_days : array_like, shape (n,)
+        Transit duration per sample [d]; values of samples that did not arrive are ignored.
+    arrived : array_like of bool, shape (n,)
+        Whether the sample reaches the recovery point.
+    deployment_date : datetime.date
+        Day the vehicle is deployed.
+    window_quantiles : (float, float)
+        Early and late arrival quantiles bounding the window, e.g. (0.05, 0.95) [-].
+    ship_transit_days : float
+        The ship's own passage to the recovery point and back [d], >= 0.
+    day_rate : float
+        Ship cost [currency/d], >= 0.
+    currency : str
+    confidence : float
+        Two-sided confidence level of the quantile intervals [-].
+
+    Returns
+    -------
+    RecoveryWindowBooking
+
+    Notes
+    -----
+    Booking = T(q_late) - T(q_early) + passage, never the whole transit: the ship sails to
+    be on station at the early quantile and stays to the late one. The window's interval
+    combines the two order-statistic intervals, [T_late_low - T_early_high,
+    T_late_high - T_early_low] (floored at 0), which covers at least at level 1 - 2 alpha.
+    """
+    confidence = _check_confidence(confidence)
+    q_lo = _check_probability_open(window_quantiles[0], "window_quantiles[0]")
+    q_hi = _check_probability_open(window_quantiles[1], "window_quantiles[1]")
+    if not q_lo < q_hi:
+        raise OutOfRangeError(f"window_quantiles={window_quantiles!r}: expected early < late")
+    if not ship_transit_days >= 0:
+        raise OutOfRangeError(f"ship_transit_days={ship_transit_days!r}: expected >= 0 days")
+    if not day_rate >= 0:
+        raise OutOfRangeError(f"day_rate={day_rate!r}: expected a non-negative cost per day")
+    t_all = _as_float_1d(arrival_days, "arrival_days")
+    ok = _as_bool_1d(arrived, "arrived")
+    n = _same_length(arrival_days=t_all, arrived=ok)
+    t = np.sort(t_all[ok])
+    m = t.size
+    if m == 0:
+        raise EmptySampleError(f"none of the {n} samples arrived: no arrival time to book against")
+    if not np.all(np.isfinite(t)):
+        raise DecisionInputError("arrival_days: arrived samples must have finite durations")
+
+    rows = []
+    for q in (q_lo, 0.5, q_hi) if q_lo < 0.5 < q_hi else (q_lo, q_hi):
+        d, lo, hi = _quantile_with_interval(t, q, confidence)
+        rows.append(ArrivalRow(quantile=q, days=d, days_low=lo, days_high=hi,
+                               date=_date_after(deployment_date, d),
+                               date_low=_date_after(deployment_date, lo),
+                               date_high=_date_after(deployment_date, hi)))
+    early, late = rows[0], rows[-1]
+    window = late.days - early.days
+    w_lo = (None if late.days_low is None or early.days_high is None
+            else max(late.days_low - early.days_high, 0.0))
+    w_hi = (None if late.days_high is None or early.days_low is None
+            else late.days_high - early.days_low)
+    plus = (lambda x: None if x is None else x + ship_transit_days)
+    cost = (lambda x: None if x is None else x * day_rate)
+    booking, b_lo, b_hi = window + ship_transit_days, plus(w_lo), plus(w_hi)
+    pa_lo, pa_hi = _wilson(m, n, confidence)
+    pct = f"{confidence * 100:g} %"
+    sentence = (
+        f"Book {_fmt_num(booking, 1)} days of ship time ({pct} CI {_fmt_num(b_lo, 1)}–"
+        f"{_fmt_num(b_hi, 1)} d): the arrival window {early.date} to {late.date} "
+        f"({q_lo * 100:g}–{q_hi * 100:g} % arrival quantiles, {_fmt_num(window, 1)} d) plus "
+        f"{_fmt_num(ship_transit_days, 1)} d of passage, costing {_fmt_money(booking * day_rate)} "
+        f"{currency} at {_fmt_money(day_rate)} {currency}/day. Median arrival {rows[1].date if len(rows) == 3 else 'n/a'}. "
+        f"Keeping the ship with the vehicle to the window's end would book {_fmt_num(late.days, 1)} d."
+    )
+    if m < n:
+        sentence += (f" {n - m:,} of {n:,} samples did not reach the recovery point "
+                     f"(P(arrival) {_fmt_prob(m / n)}, {pct} CI "
+                     f"{_fmt_prob_interval(float(pa_lo), float(pa_hi))}).")
+    return RecoveryWindowBooking(
+        deployment_date=deployment_date.isoformat(),
+        window_quantiles=(q_lo, q_hi),
+        arrivals=tuple(rows),
+        window_days=window, window_days_low=w_lo, window_days_high=w_hi,
+        ship_transit_days=float(ship_transit_days),
+        booking_days=booking, booking_days_low=b_lo, booking_days_high=b_hi,
+        booking_cost=booking * day_rate, booking_cost_low=cost(b_lo), booking_cost_high=cost(b_hi),
+        on_station_days=late.days,
+        day_rate=float(day_rate), currency=currency,
+        probability_of_arrival=m / n, probability_of_arrival_low=float(pa_lo),
+        probability_of_arrival_high=float(pa_hi),
+        samples=n, arrived=m, confidence=confidence, sentence=sentence,
     )

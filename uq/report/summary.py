@@ -121,6 +121,8 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
                           "quantiles": [interval_dict(q) for q in prop.duration_quantiles]},
         "mean_margin_Wh": interval_dict(prop.mean_margin_Wh),
         "contingency": a.contingency.to_dict() if a.contingency is not None else None,
+        "recovery_window": a.recovery.to_dict() if a.recovery is not None else None,
+        "pilot_actions": a.flight.to_dict() if a.flight is not None else None,
         "sensitivity_ranking": a.sensitivity_ranking(),
         "sensitivity_indices": indices,
         "surrogate": pce,

@@ -267,6 +267,9 @@ def _write_tables(a, folder, *, sweep, sweep_summary, comparison, pair) -> None:
         _csv(pd.DataFrame(columns=["rank", "name", "inputs", "cost"]), folder / "tests.csv")
     if a.contingency is not None:
         _csv(a.contingency.to_frame(), folder / "contingency.csv")
+    elif a.recovery is not None:
+        _csv(a.recovery.to_frame(), folder / "recovery_window.csv")
+        _csv(pd.DataFrame(columns=["quantile", "booking_days"]), folder / "contingency.csv")
     else:
         _csv(pd.DataFrame(columns=["quantile", "booking_days"]), folder / "contingency.csv")
     _csv(a.failures.to_frame(), folder / "failures.csv")

@@ -55,7 +55,8 @@ __all__ = [
 #: per-sample outputs kept from the propagation (plus the input values themselves)
 OUTPUT_KEYS = ("range_km", "range_censored", "arrived", "reaches_recovery", "success",
                "failure_mode",
-               "failing_leg", "duration_days", "margin_Wh", "margin_fraction")
+               "failing_leg", "duration_days", "margin_Wh", "margin_fraction",
+               "flight_events", "surfacings")
 _RANGE_QUANTILES = (0.05, 0.1, 0.5, 0.9, 0.95)
 _DURATION_QUANTILES = (0.5, 0.9, 0.95)
 #: outputs whose Sobol indices are reported, with their units
@@ -420,6 +421,10 @@ class Assessment:
     versions: dict[str, str] = field(default_factory=dict)
     #: (samples, P(success) half-width) of each propagation size tried
     convergence: tuple[tuple[int, float], ...] = ()
+    #: ship booked for the recovery window only (scenario's ship_booking = "recovery_window")
+    recovery: decisions.RecoveryWindowBooking | None = None
+    #: what the pilot did (gliders): re-trims, drifting, surfacings
+    flight: decisions.PilotActions | None = None
 
     @property
     def p_success(self) -> estimators.IntervalEstimate:
@@ -540,8 +545,13 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
         leg_names=[leg.name for leg in scenario.legs], confidence=conf)
     # every vehicle that reaches the recovery point, on its reserve if need be, must be met
     reached = out["reaches_recovery"]
-    contingency = None
-    if reached.sum() >= 2:
+    contingency = recovery = None
+    if reached.sum() >= 2 and dec.ship_booking == "recovery_window":
+        recovery = decisions.recovery_window_booking(
+            out["duration_days"], arrived=reached, deployment_date=dec.deployment_date,
+            window_quantiles=dec.recovery_window, ship_transit_days=dec.ship_transit_days,
+            day_rate=dec.ship_day_rate, currency=dec.currency, confidence=conf)
+    elif reached.sum() >= 2:
         contingency = decisions.ship_time_contingency(
             out["duration_days"], arrived=reached,
             nominal_days=float(base.outcome["duration_days"]),
@@ -592,5 +602,9 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
                 total_indices=total, currency=dec.currency, confidence=conf,
                 option_names=("go", "no-go") if nb is not None else None,
                 rng=np.random.default_rng(rank_seed))
+    flight = None
+    if scenario.vehicle.kind == "glider":
+        flight = decisions.pilot_actions(out["flight_events"], out["surfacings"], confidence=conf)
     return {"verdict": verdict, "failures": failures, "contingency": contingency,
+            "recovery": recovery, "flight": flight,
             "pinned": pinned, "tests": tests, "notes": notes}
