@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 from scipy import optimize
 
-from physics import drag, glide, lift, mission, propulsion, seawater
+from physics import drag, glide, lift, mission, seawater
 from physics.states import FAILURE_MODE_NAMES, FailureMode
 from uq.errors import InputError
 from uq.scenario import (

@@ -34,7 +34,7 @@ import numpy as np
 from uq import decisions, estimators
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
 from uq.sampling.inputs import InputModel
-from uq.sampling.plans import SampleDesign
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
 from uq.scenario import Scenario
 from uq.simulate import FAILURE_MODE_NAMES, NominalResult, Outcomes, ScenarioModel, nominal
 
@@ -72,7 +72,7 @@ class Settings:
     confidence: float
     workers: int = 1
     chunk_blocks: int = 1
-    block_size: int = 2**15
+    block_size: int = DEFAULT_BLOCK_SIZE
     polynomial_chaos: bool = True
 
     @property
@@ -106,7 +106,7 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
         confidence=scenario.decision.confidence,
         workers=int(overrides.get("workers") or 1),
         chunk_blocks=int(overrides.get("chunk_blocks") or 1),
-        block_size=int(overrides.get("block_size") or 2**15),
+        block_size=int(overrides.get("block_size") or DEFAULT_BLOCK_SIZE),
         polynomial_chaos=overrides.get("polynomial_chaos", True),
     )
 
@@ -450,7 +450,7 @@ def package_versions() -> dict[str, str]:
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
-           block_size: int = 2**15, polynomial_chaos: bool = True,
+           block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
            progress: Callable[[str, int, int], None] | None = None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).

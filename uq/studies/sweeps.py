@@ -20,8 +20,8 @@ from scipy import stats
 from uq import decisions
 from uq.sampling.inputs import InputModel, ScipyMarginal
 from uq.sampling.plans import SampleDesign
-from uq.scenario import DragCoefficient, HullGeometry, Scenario
-from uq.simulate import ScenarioModel, deterministic_optimum, nominal, nominal_inputs
+from uq.scenario import Scenario
+from uq.simulate import ScenarioModel, deterministic_optimum, nominal
 
 __all__ = [
     "SWEEPABLE",

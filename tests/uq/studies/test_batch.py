@@ -11,16 +11,13 @@ import pandas as pd
 import pytest
 
 from uq.sampling import backends
-from uq.studies.batch import (
+from uq.scenario.study_file import (
     StudyFileError,
-    StudyOutputError,
     StudySettingsError,
     VariantScenarioError,
     load_study,
-    run_study,
-    study_main,
-    write_study,
 )
+from uq.studies.batch import StudyOutputError, run_study, study_main, write_study
 from uq.studies.sweeps import evaluate_on_shared_samples
 
 CONFIGS = Path(__file__).resolve().parents[3] / "configs"
