@@ -184,7 +184,7 @@ def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOut
     )
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)  # arrays have no single truth value: compare fields
 class Outcomes:
     """Per-sample transit outcomes in report units, one entry per sample row.
 
@@ -235,6 +235,9 @@ class Outcomes:
 
     def keys(self) -> tuple[str, ...]:
         return _OUTCOME_FIELDS
+
+    def items(self) -> Iterator[tuple[str, np.ndarray]]:
+        return ((k, getattr(self, k)) for k in _OUTCOME_FIELDS)
 
     def __iter__(self) -> Iterator[str]:
         return iter(_OUTCOME_FIELDS)
