@@ -456,7 +456,7 @@ def glide_trim(policy, commanded_angle, commanded_buoyancy, commanded_speed, den
     TRIM_ABOVE_ENGINE_LIMIT. efficient minimises the energy per distance
     B tan(gamma) / eta + overhead_per_tan tan(gamma) (+ P_hotel / u, constant at a held
     speed) over feasible angles (MODEL notes sec. 8) on a grid of 41 angles from gamma_flat to
-    atan(6 tan gamma_flat); when no angle holds the speed within the limit it flies the limit
+    atan(6 tan gamma_flat), refined by a parabola through the best three; when no angle holds the speed within the limit it flies the limit
     at the angle of the highest horizontal speed (the speed drops, ``at_limit``), and fails
     only when the limit leaves no net buoyancy at all.
     """
@@ -516,8 +516,26 @@ def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
     best = np.argmin(cost, axis=1)
     rows = np.arange(u.size)
     held = feasible[rows, best]
-    g = np.arctan(t[rows, best])
-    b_out = b[rows, best]
+    t_best, b_out = t[rows, best], b[rows, best]
+    # refine inside the bracket: vertex of the parabola through the three grid points
+    inner = held & (best > 0) & (best < _TAU.size - 1)
+    if inner.any():
+        i, j = rows[inner], best[inner]
+        x0, x1, x2 = t[i, j - 1], t[i, j], t[i, j + 1]
+        y0, y1, y2 = cost[i, j - 1], cost[i, j], cost[i, j + 1]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            num = (x1 - x0) ** 2 * (y1 - y2) - (x1 - x2) ** 2 * (y1 - y0)
+            den = (x1 - x0) * (y1 - y2) - (x1 - x2) * (y1 - y0)
+            x_v = x1 - 0.5 * num / den
+        good = np.isfinite(x_v) & (x_v > x0) & (x_v < x2)
+        x_v = np.where(good, x_v, x1)
+        cd0_i, k_i = cd0[i], k[i]
+        cl_v = 2.0 * cd0_i / (x_v + np.sqrt(np.maximum(x_v * x_v - 4.0 * k_i * cd0_i, 0.0)))
+        b_v = 0.5 * rho[i] * area[i] * cl_v * u[i] ** 2 * (1.0 + x_v * x_v) ** 1.5
+        better = good & (b_v <= b_max[i]) & ((b_v / eta[i] + overhead[i]) * x_v <= y1)
+        t_best[i] = np.where(better, x_v, x1)
+        b_out[i] = np.where(better, b_v, b_out[i])
+    g = np.arctan(t_best)
     if not held.all():
         # fallback: the engine's limit at the angle of the highest horizontal speed; at fixed
         # B, u = sqrt(2 B / (rho S C_L (1 + t^2)^(3/2))): the largest 1 / (C_L secant^3)

@@ -152,7 +152,7 @@ def test_propeller_current_straddling_speed_fails_exactly_where_no_headway():
 
 
 def test_glider_cross_current_above_its_speed_is_no_headway():
-    # the demo glider makes about 0.34 m/s through water (header of glider_transit.toml);
+    # the demo glider holds 0.32 m/s through water (setpoint of glider_transit.toml);
     # 0.6 m/s across on the open-basin leg leaves it no headway there
     d = glider()
     d["legs"][2]["current_across_m_s"] = 0.6
@@ -346,7 +346,7 @@ def _edit(make, *edits):
 
 
 OTHER_CASES = {
-    # derived: usable energy reaches zero after 1/0.0499 = 20 days, the glider needs ~64
+    # derived: usable energy reaches zero after 1/0.0499 = 20 days, the glider needs ~71
     "battery-fades-out": (glider, [(("battery", "fade_per_day"), 0.0499)], FailureMode.ENERGY),
     "reserve-almost-all": (glider, [(("battery", "reserve_fraction"), 1.0 - 1e-12)], FailureMode.ENERGY),
     "empty-battery": (glider, [(("battery", "nominal_energy_Wh"), 1e-300)], FailureMode.ENERGY),

