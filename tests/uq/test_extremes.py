@@ -153,11 +153,16 @@ def test_propeller_current_straddling_speed_fails_exactly_where_no_headway():
 
 def test_glider_cross_current_above_its_speed_is_no_headway():
     # the demo glider holds 0.32 m/s through water (setpoint of glider_transit.toml);
-    # 0.6 m/s across on the open-basin leg leaves it no headway there
+    # 0.6 m/s across on the open-basin leg leaves it no headway there if it must crab
+    # (MODEL.md s6); allowed to drift it makes (u + c_a) u / (u + |c_x|) > 0 (MODEL.md s8)
     d = glider()
     d["legs"][2]["current_across_m_s"] = 0.6
+    d["legs"][2]["current_policy"] = "crab"
     a = run(parse_scenario(d))
     assert FailureMode.NO_HEADWAY in modes(a)
+    d["legs"][2]["current_policy"] = "crab_or_drift"
+    drifting = run(parse_scenario(d))
+    assert FailureMode.NO_HEADWAY not in modes(drifting)
     assert not a["arrived"].any()
     assert np.all(np.isnan(a["energy_per_km_Wh"][:, 3]))
 
@@ -242,7 +247,8 @@ def _fix_every_input(doc: dict) -> dict:
         items = node.items() if isinstance(node, dict) else enumerate(node)
         for key, value in list(items):
             # a leg's input names use the leg's name, not its index
-            here = path + [value.get("name", key) if isinstance(node, list) else key]
+            here = path + [value.get("name", key) if isinstance(node, list)
+                           and isinstance(value, dict) else key]
             if isinstance(value, dict) and "dist" in value:
                 node[key] = medians[".".join(str(p) for p in here)]
             elif isinstance(value, (dict, list)):
@@ -327,8 +333,10 @@ def test_ice_ceiling_leaving_no_depth_band():
 def test_ice_ceiling_leaving_a_sliver_of_depth_band(ceiling):
     # derived (MODEL.md section 5): cycle-mean speed (2 dz / tan g) / (2 dz / w + 2 t_inflection)
     # -> 0 as dz -> 0 (1 m: 4.1 m per 192 s = 0.02 m/s), below the 0.12-0.32 m/s cross current
+    # (crabbing, as the leg must here: drifting would crawl on with a following current)
     d = glider()
     d["legs"][1]["ice_ceiling_m"] = ceiling
+    d["legs"][1]["current_policy"] = "crab"
     a = run(parse_scenario(d))
     assert np.all(a["failure_mode"] == FailureMode.NO_HEADWAY)
     assert np.all(a["failing_leg"] == 1)
@@ -357,8 +365,15 @@ OTHER_CASES = {
     "huge-leg": (glider, [(("legs", 2, "length_km"), 1e7), (("limits", "max_duration_days"), math.inf)],
                  FailureMode.ENERGY),
     # derived: at 89.999 deg the horizontal speed is ~1e-5 of the speed, far below any current
-    "near-vertical-glide": (glider, [(("setpoint", "glide_angle_deg"), 89.999)], FailureMode.NO_HEADWAY),
-    "tiny-buoyancy": (glider, [(("setpoint", "net_buoyancy_N"), 1e-12)], FailureMode.NO_HEADWAY),
+    "near-vertical-glide": (glider, [(("setpoint", "glide_angle_deg"), 89.999),
+                                     (("setpoint", "flight_policy"), "hold_angle")],
+                            FailureMode.NO_HEADWAY),
+    "tiny-buoyancy": (glider, [(("setpoint", "net_buoyancy_N"), 1e-12),
+                               (("setpoint", "flight_policy"), "hold_angle")], FailureMode.NO_HEADWAY),
+    # MODEL.md s8: 1e6 N is far beyond the engine's 0.9 L swing (about 9 N)
+    "huge-buoyancy-held": (glider, [(("setpoint", "net_buoyancy_N"), 1e6),
+                                    (("setpoint", "flight_policy"), "hold_angle")],
+                           FailureMode.CANNOT_TRIM),
     "huge-buoyancy": (glider, [(("setpoint", "net_buoyancy_N"), 1e6)], FailureMode.ENERGY),
     "tiny-speed": (propeller, [(("setpoint", "speed_m_s"), 1e-9)], FailureMode.NO_HEADWAY),
     "huge-speed": (propeller, [(("setpoint", "speed_m_s"), 1e3)], FailureMode.ENERGY),

@@ -94,3 +94,31 @@ def test_duty_cycle_is_a_fraction():
     d["legs"][2]["payload_duty_cycle"] = 1.5
     with pytest.raises(ScenarioError, match=r"payload_duty_cycle = 1\.5.*duty cycle"):
         parse_scenario(d)
+
+
+def test_small_engine_cannot_trim_the_demo_for_the_deep_basin():
+    # TEOS-10 (gsw): lightest water of the demo route 12 degC, SP 35.2 at the surface, densest
+    # 6 degC, SP 35.0 at 1000 dbar: (rho_max - rho_min) g V_hull with V_hull >= 61 L is
+    # >= 3.2 N, more than the 3.0 N swing of 0.3 L (MODEL.md s8), so the engine cannot trim
+    # the vehicle once it meets the basin's deep water (leg 2); on the crossing (12 degC at
+    # 1000 dbar, ~2.7 N of range) it still flies, at the engine's limit.
+    import gsw
+    import numpy as np
+
+    from physics.states import FailureMode, FlightEvent
+    from uq.simulate import nominal_inputs, simulate_arrays
+
+    sa_light, sa_dense = gsw.SR_from_SP(35.2), gsw.SR_from_SP(35.0)
+    rho_min = gsw.rho(sa_light, gsw.CT_from_t(sa_light, 12.0, 0.0), 0.0)
+    rho_max = gsw.rho(sa_dense, gsw.CT_from_t(sa_dense, 6.0, 1000.0), 1000.0)
+    swing = rho_min * 9.80665 * 0.3e-3
+    assert (rho_max - rho_min) * 9.80665 * 0.061 > swing
+    d = copy.deepcopy(GLIDER)
+    d["vehicle"]["max_pumped_volume_L"] = 0.3
+    d["limits"]["max_duration_days"] = float("inf")  # slow at the limit: no time limit here
+    s = parse_scenario(d)
+    a = simulate_arrays(s, nominal_inputs(s))
+    assert a["failure_mode"][0] == FailureMode.CANNOT_TRIM
+    assert a["failing_leg"][0] == 2
+    assert a["flight_events"][0] & FlightEvent.AT_ENGINE_LIMIT
+    assert np.isfinite(a["range_km"]).all()
