@@ -52,8 +52,14 @@ def test_dask_executor_keeps_order_and_numbers():
                                   dashboard_address=None) as cluster, \
             distributed.Client(cluster, set_as_default=False) as client:
         ex = backends.DaskExecutor(client)
+        assert ex.retries == 0  # a deterministic model that raised once raises again
         assert list(ex.map(_square, range(10))) == [i * i for i in range(10)]
         on_dask = _run(ex)
+        # what all tasks share is sent once: tasks carry a reference, not the object
+        model = object()
+        tasks = ex._scatter_shared_parts([(model, 0, 1), (model, 1, 2)])
+        assert isinstance(tasks[0][0], distributed.Future) and tasks[0][0] is tasks[1][0]
+        assert tasks[1][1:] == (1, 2)
     serial = _run(None)
     assert on_dask["hits"] == serial["hits"] and on_dask["sum"] == serial["sum"]
 
