@@ -452,8 +452,13 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
            block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
-           progress: Callable[[str, int, int], None] | None = None) -> Assessment:
+           progress: Callable[[str, int, int], None] | None = None,
+           executor=None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
+
+    ``executor``: any object with an ordered ``.map(fn, iterable)`` (e.g. from
+    :func:`uq.sampling.backends.dask_executor`); when given, ``workers`` is not used. The
+    numbers do not depend on the executor, the worker count or ``chunk_blocks``.
 
     With ``target_half_width`` the propagation doubles its sample size until the half-width
     of the P(success) interval is at most that (e.g. 0.01) or ``max_samples`` is reached; the
@@ -468,7 +473,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     stage_seeds = np.random.SeedSequence(settings.seed, spawn_key=(2**31,)).spawn(3)
     timings: dict[str, float] = {}
     cautions: list[str] = []
-    pool = ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext()
+    pool = (nullcontext(executor) if executor is not None
+            else ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext())
     with warnings.catch_warnings(record=True) as caught, pool as executor:
         warnings.simplefilter("always")
         t0 = time.perf_counter()
