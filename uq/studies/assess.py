@@ -422,6 +422,30 @@ class Assessment:
     def p_success(self) -> estimators.IntervalEstimate:
         return self.propagation.p_success
 
+    def __repr__(self) -> str:
+        # a notebook echoes the object: one line, not the 60,000 characters of every array
+        p = self.propagation.p_success
+        return (f"<Assessment {self.scenario.name!r}: {self.verdict.verdict.upper()}, "
+                f"P(success) {p.estimate:.1%} ({p.confidence:.0%} CI {p.lower:.1%} to "
+                f"{p.upper:.1%}) against {self.scenario.decision.required_probability:.1%} "
+                f"required; {self.propagation.samples:,} samples, seed {self.settings.seed}>")
+
+    def _repr_html_(self) -> str:
+        """Rich display in a notebook: the verdict sentence and the headline figures."""
+        import html
+
+        p = self.propagation.p_success
+        rows = [("verdict", self.verdict.verdict.upper()),
+                ("P(success)", f"{p.estimate:.1%} ({p.confidence:.0%} CI {p.lower:.1%} to {p.upper:.1%})"),
+                ("required", f"{self.scenario.decision.required_probability:.1%}"),
+                ("samples / seed", f"{self.propagation.samples:,} / {self.settings.seed}")]
+        if self.contingency is not None:
+            rows.append(("ship time", self.contingency.sentence))
+        body = "".join(f"<tr><th style='text-align:left'>{html.escape(k)}</th>"
+                       f"<td style='text-align:left'>{html.escape(v)}</td></tr>" for k, v in rows)
+        return (f"<div><strong>{html.escape(self.scenario.name)}</strong>: "
+                f"{html.escape(self.verdict.sentence)}<table>{body}</table></div>")
+
     def sensitivity_ranking(self) -> list[dict]:
         """Inputs ranked by total index of the failure indicator (then of range)."""
         if self.sensitivity is None:
