@@ -94,6 +94,10 @@ def local_executor(workers: int) -> Iterator[ProcessPoolExecutor | None]:
         yield pool
 
 
+def _identity(obj: Any) -> Any:
+    return obj
+
+
 class DaskExecutor:
     """Ordered ``.map`` over a ``distributed.Client`` for :func:`uq.sampling.engine.stream`.
 
@@ -110,8 +114,8 @@ class DaskExecutor:
     -----
     A task of the engine is a tuple (design, model, reducer, input model, first block, last
     block); every task carries the same model and plan objects. ``map`` sends each object that
-    all tasks share to the cluster once (``client.scatter``) and gives the tasks a reference to
-    it, so a task's payload is a few hundred bytes whatever the model's size. It then submits
+    all tasks share to the cluster once (as a small task that returns it, so a lost copy is
+    recomputed like any lost result) and gives the tasks a reference to it, so a task's payload is a few hundred bytes whatever the model's size. It then submits
     every task with ``client.map(fn, tasks, retries=retries, pure=False)`` — ``pure=False`` so
     that equal-looking tasks are never merged — and yields ``future.result()`` in submission
     order. If the consumer stops early (an error downstream), the futures not yet collected
@@ -140,7 +144,9 @@ class DaskExecutor:
                   and all(len(t) == width and t[i] is tasks[0][i] for t in tasks)]
         if not shared:
             return tasks
-        refs = {i: self.client.scatter(tasks[0][i], broadcast=False, hash=False) for i in shared}
+        # a task that returns the object (not client.scatter): if the worker holding it is lost,
+        # the scheduler recomputes it from the task, as it does for every other lost result
+        refs = {i: self.client.submit(_identity, tasks[0][i], pure=False) for i in shared}
         return [tuple(refs.get(i, part) for i, part in enumerate(t)) for t in tasks]
 
     def _results(self, futures: list) -> Iterator[Any]:
