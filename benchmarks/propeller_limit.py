@@ -89,3 +89,56 @@ def propeller_transit(clean_drag, speed, efficiency, hotel, drag_increase, leg_l
         x = x + lengths[:, seg]
     rng = np.where(np.isnan(rng) & moving, x, rng)  # still open at the cap: censored
     return rng, duration, margin
+
+
+def propeller_transit_scalar(clean_drag, speed, efficiency, hotel, drag_increase, leg_length,
+                             current_along, current_across, growth, onset, tau, drawable0,
+                             fade_rate, *, extension=0.5, newton_steps=6, min_ground_speed=0.01):
+    """One sample of :func:`propeller_transit` in plain Python with ``math``: what a competent
+    user writes when they loop over samples (lists of floats in, three floats out)."""
+    import math
+
+    def phi_integral(c0, c1):
+        a, b = max(c0, onset), max(c1, onset)
+        d = b - a
+        if d <= 0 or math.isinf(tau):
+            return 0.0
+        return d + tau * math.exp(-(a - onset) / tau) * math.expm1(-d / tau)
+
+    def phi(c):
+        return -math.expm1(-(c - onset) / tau) if c > onset else 0.0
+
+    legs = len(leg_length)
+    lengths = list(leg_length) + [extension * sum(leg_length)]
+    t = clock = energy = x = 0.0
+    rng = duration = margin = None
+    for seg in range(legs + 1):
+        j = min(seg, legs - 1)
+        if speed <= abs(current_across[j]):
+            return x, math.inf, -math.inf
+        g = math.sqrt(speed * speed - current_across[j] ** 2) + current_along[j]
+        if g <= min_ground_speed:
+            return x, math.inf, -math.inf
+        k = growth[j]
+        p0 = clean_drag[j] * speed / efficiency + hotel[j]
+        p1 = clean_drag[j] * speed * drag_increase / efficiency
+        span = lengths[seg] / g
+
+        def gap(s):
+            return (drawable0 * (1.0 - fade_rate * (t + s))
+                    - (energy + p0 * s + p1 * phi_integral(clock, clock + k * s) / k))
+
+        end_gap = gap(span)
+        if rng is None and end_gap < 0.0:
+            s = span
+            for _ in range(newton_steps):
+                dh = -drawable0 * fade_rate - p0 - p1 * phi(clock + k * s)
+                s = min(max(s - gap(s) / dh, 0.0), span)
+            rng = x + g * s
+        if seg == legs - 1:
+            duration, margin = t + span, end_gap
+        energy += p0 * span + p1 * phi_integral(clock, clock + k * span) / k
+        clock += k * span
+        t += span
+        x += lengths[seg]
+    return (x if rng is None else rng), duration, margin
