@@ -54,6 +54,7 @@ class UnderIceOutcome(NamedTuple):
     arrival_energy: np.ndarray  # loiter + homing demand at the recovery point [J]
     arrival_duration: np.ndarray  # loiter + homing time [s]
     margin: np.ndarray  # energy above the reserve after the recovery-point demand [J]
+    margin_fraction: np.ndarray  # margin / usable energy when recovered [-]
     success: np.ndarray  # bool: transit success that also affords loiter and homing
     reaches_recovery: np.ndarray  # bool: recovered at the goal, possibly on the reserve
     lost_under_ice: np.ndarray  # bool: neither recovered nor returned, ends on an ice leg
@@ -280,8 +281,10 @@ def under_ice_outcome(
     margin = np.where(transit.arrived,
                       battery.drawable(finished) - e[:, -1] - arrival_energy,
                       np.minimum(transit.margin, 0.0))
+    usable_end = battery.usable(finished)
+    margin_fraction = np.divide(margin, usable_end, out=np.zeros(n), where=usable_end > 0)
     success = transit.success & (margin >= 0.0)
-    reaches = transit.arrived & (e[:, -1] + arrival_energy <= battery.usable(finished))
+    reaches = transit.arrived & (e[:, -1] + arrival_energy <= usable_end)
 
     # --- the decision --------------------------------------------------------------------------
     turned = np.zeros(n, dtype=bool)
@@ -332,6 +335,7 @@ def under_ice_outcome(
         arrival_energy=np.array(arrival_energy),
         arrival_duration=np.array(arrival_duration),
         margin=margin,
+        margin_fraction=margin_fraction,
         success=success,
         reaches_recovery=reaches,
         lost_under_ice=lost,

@@ -10,7 +10,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from physics import drag, lift, mission, seawater
+from physics import battery as cells
+from physics import drag, lift, mission, propulsion, seawater, turnback
 from physics.states import FAILURE_MODE_NAMES, FailureMode
 from uq.scenario import (
     DragCoefficient,
@@ -74,17 +75,37 @@ def _leg_water(scenario: Scenario, f: _Fields, depth: np.ndarray):
     return rho, nu
 
 
+def _propeller_setpoints(scenario: Scenario, f: _Fields):
+    """Speed through water [m/s] and depth [m] per leg, (n, J) or (n, 1) without overrides."""
+    sp = scenario.setpoint
+    legs = scenario.legs
+    cruise = f(sp.speed_m_s)
+    depth = f.legs(legs, "depth_m", fallback=f(sp.depth_m)) if any(
+        leg.depth_m is not None for leg in legs) else f(sp.depth_m)[:, None]
+    per_leg = any(leg.speed_m_s is not None for leg in legs) or sp.min_ground_speed_m_s is not None
+    if not per_leg:
+        return cruise, depth
+    speed = f.legs(legs, "speed_m_s", fallback=cruise)
+    if sp.min_ground_speed_m_s is not None:
+        ceiling = speed if scenario.vehicle.max_speed_m_s is None else \
+            f(scenario.vehicle.max_speed_m_s)[:, None]
+        speed = propulsion.speed_to_hold_ground_speed(
+            speed, f(sp.min_ground_speed_m_s)[:, None], f.legs(legs, "current_along_m_s"),
+            f.legs(legs, "current_across_m_s"), ceiling)
+    return speed, depth
+
+
 def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.PropellerRates:
     vehicle: PropellerVehicle = scenario.vehicle
-    speed = f(scenario.setpoint.speed_m_s)
-    depth = f(scenario.setpoint.depth_m)[:, None]
+    speed, depth = _propeller_setpoints(scenario, f)
     rho, nu = _leg_water(scenario, f, depth)
+    leg_speed = speed if speed.ndim == 2 else speed[:, None]
     body = vehicle.drag
     if isinstance(body, HullGeometry):
         length = f(body.length_m)[:, None]
         diameter = f(body.diameter_m)[:, None]
         coefficient = drag.hull_drag_coefficient(
-            speed[:, None], length, diameter, nu, appendage_factor=f(body.appendage_factor)[:, None]
+            leg_speed, length, diameter, nu, appendage_factor=f(body.appendage_factor)[:, None]
         )
         area = (drag.spheroid_wetted_area(length, diameter) if body.wetted_area_m2 is None
                 else f(body.wetted_area_m2)[:, None])
@@ -93,11 +114,17 @@ def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> missi
         area = f(body.reference_area_m2)[:, None]
     else:  # pragma: no cover - the loader admits only the two
         raise TypeError(f"unknown hull description {type(body).__name__}")
-    clean_drag = drag.drag_force(rho, speed[:, None], coefficient, area)
+    clean_drag = drag.drag_force(rho, leg_speed, coefficient, area)
+    efficiency = f(vehicle.propulsive_efficiency)
+    if vehicle.efficiency_curve is not None:
+        curve = vehicle.efficiency_curve
+        efficiency = propulsion.efficiency_at_speed(
+            leg_speed, efficiency[:, None], f(scenario.setpoint.speed_m_s)[:, None],
+            curve.speed_m_s, curve.efficiency)
     return mission.PropellerRates(
         clean_drag=np.ascontiguousarray(clean_drag),
         speed=speed,
-        propulsive_efficiency=f(vehicle.propulsive_efficiency),
+        propulsive_efficiency=efficiency,
         hotel_load=hotel,
         drag_increase=f(scenario.fouling.drag_increase),
     )
@@ -133,7 +160,38 @@ def _glider_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.
     )
 
 
-def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOutcome:
+def _battery_by_leg(scenario: Scenario, f: _Fields):
+    """Capacity factor per leg (n, J) or 1.0, and self-discharge rate [1/s] of the pack."""
+    b = scenario.battery
+    table = None
+    if b.capacity_curve is not None:
+        table = (b.capacity_curve.temperature_C, b.capacity_curve.fraction)
+    elif b.chemistry is not None:
+        default = cells.CHEMISTRIES[b.chemistry]
+        table = (default.temperature, default.fraction)
+    capacity = 1.0 if table is None else cells.capacity_fraction(
+        f.legs(scenario.legs, "temperature_C"), *table)
+    if b.self_discharge_per_month is not None:
+        monthly = f(b.self_discharge_per_month)
+    elif b.chemistry is not None:
+        monthly = np.full(f.n, cells.CHEMISTRIES[b.chemistry].self_discharge_per_month)
+    else:
+        return capacity, 0.0
+    return capacity, cells.self_discharge_rate(monthly)
+
+
+def _ice_legs(scenario: Scenario):
+    """Legs under an ice ceiling (J,) and the leg boundaries named as safe exits (J+1,)."""
+    ice = np.array([leg.under_ice for leg in scenario.legs], dtype=bool)
+    names = [leg.name for leg in scenario.legs]
+    exits = np.zeros(len(names) + 1, dtype=bool)
+    for name in scenario.under_ice.safe_exits_after:
+        exits[names.index(name) + 1] = True
+    return ice, exits
+
+
+def _transit(scenario: Scenario, x: np.ndarray, **options):
+    """Forward flight, under-ice outcome and hardware split of every sample row of ``x``."""
     f = _Fields(scenario, x)
     hotel = f.legs(scenario.legs, "hotel_load_W", fallback=f(scenario.vehicle.hotel_load_W))
     if scenario.vehicle.kind == "propeller":
@@ -141,26 +199,45 @@ def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOut
     else:
         rates = _glider_rates(scenario, f, hotel)
     b = scenario.battery
+    capacity, self_discharge = _battery_by_leg(scenario, f)
     battery = mission.BatteryState(
         nominal_energy=f(b.nominal_energy_Wh) * _J_PER_WH,
         cold_derating=f(b.cold_derating),
-        fade_rate=f(b.fade_per_day) / SECONDS_PER_DAY,
+        fade_rate=f(b.fade_per_day) / SECONDS_PER_DAY + self_discharge,
         usable_fraction=f(b.usable_fraction),
         reserve_fraction=f(b.reserve_fraction),
     )
     fo = scenario.fouling
-    return mission.fly_route(
-        rates,
-        battery,
+    ice, exits = _ice_legs(scenario)
+    overhead = np.where(ice, f(scenario.under_ice.dead_reckoning_overhead)[:, None], 0.0)
+    route = dict(
         leg_length=f.legs(scenario.legs, "length_km") * 1000.0,
         current_along=f.legs(scenario.legs, "current_along_m_s"),
         current_across=f.legs(scenario.legs, "current_across_m_s"),
+        distance_overhead=overhead,
+        capacity_factor=capacity,
+    )
+    transit = mission.fly_route(
+        rates,
+        battery,
         fouling_growth_factor=f.legs(scenario.legs, "fouling_growth_factor"),
         fouling_onset=f(fo.onset_days) * SECONDS_PER_DAY,
         fouling_time_constant=f(fo.time_constant_days) * SECONDS_PER_DAY,
         max_duration=f(scenario.limits.max_duration_days) * SECONDS_PER_DAY,
+        **route,
         **options,
     )
+    rec = scenario.recovery
+    under_ice = turnback.under_ice_outcome(
+        rates, battery, transit, ice=ice, safe_boundary=exits,
+        loiter_power=f(rec.loiter_power_W), loiter_time=f(rec.loiter_time_h) * 3600.0,
+        homing_distance=f(rec.homing_distance_km) * 1000.0, policy=scenario.under_ice.policy,
+        min_ground_speed=options.get("min_ground_speed", 0.01), **route)
+    subsystems = scenario.hardware.subsystems
+    faults = turnback.fault_split(
+        under_ice, ice, [s.rate_per_day / SECONDS_PER_DAY for s in subsystems],
+        [s.weibull_shape for s in subsystems])
+    return transit, under_ice, faults
 
 
 def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, np.ndarray]:
@@ -172,18 +249,28 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, n
     ``energy_per_km_Wh`` (n, J), ``route_energy_per_km_Wh`` (energy drawn over distance
     flown on the route) and ``route_km``.
     """
-    out = _transit(scenario, x, **options)
+    out, ice, faults = _transit(scenario, x, **options)
+    # a sample that reaches the recovery point but cannot afford loiter and homing above the
+    # reserve fails on energy at the last leg
+    short = out.success & ~ice.success & ~ice.turned_back
+    last = len(scenario.legs) - 1
     return {
         "range_km": out.range / 1000.0,
         "range_censored": out.range_censored,
         "arrived": out.arrived,
-        "reaches_recovery": out.reaches_recovery,
-        "success": out.success,
-        "failure_mode": out.failure_mode,
-        "failing_leg": out.failing_leg,
+        "reaches_recovery": ice.reaches_recovery,
+        "success": ice.success,
+        "failure_mode": np.where(short, FailureMode.ENERGY, out.failure_mode).astype(np.int8),
+        "failing_leg": np.where(short, last, out.failing_leg).astype(np.int16),
         "duration_days": out.duration / SECONDS_PER_DAY,
-        "margin_Wh": out.margin / _J_PER_WH,
-        "margin_fraction": out.margin_fraction,
+        "margin_Wh": ice.margin / _J_PER_WH,
+        "margin_fraction": ice.margin_fraction,
+        "turned_back": ice.turned_back,
+        "lost_under_ice": ice.lost_under_ice,
+        "point_of_no_return_km": ice.point_of_no_return / 1000.0,
+        "p_no_fault": faults.no_fault,
+        "p_fault_under_ice": faults.under_ice,
+        "p_fault_open_water": faults.open_water,
         "energy_per_km_Wh": out.energy_per_distance * (1000.0 / _J_PER_WH),
         "route_energy_per_km_Wh": out.route_energy_per_distance * (1000.0 / _J_PER_WH),
         "route_km": out.route_length / 1000.0,
