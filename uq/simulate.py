@@ -137,9 +137,9 @@ def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray, *,
     efficiency = f(vehicle.propulsive_efficiency)
     if vehicle.efficiency_curve is not None:
         curve = vehicle.efficiency_curve
-        efficiency = propulsion.efficiency_at_speed(
+        efficiency = np.ascontiguousarray(np.broadcast_to(propulsion.efficiency_at_speed(
             leg_speed, efficiency[:, None], f(scenario.setpoint.speed_m_s)[:, None],
-            curve.speed_m_s, curve.efficiency)
+            curve.speed_m_s, curve.efficiency), hotel.shape))
     return mission.PropellerRates(
         clean_drag=np.ascontiguousarray(clean_drag),
         speed=speed,
@@ -405,8 +405,10 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> Outcomes:
         arrived=out.arrived,
         reaches_recovery=ice.reaches_recovery,
         success=ice.success,
-        failure_mode=np.where(short, FailureMode.ENERGY, out.failure_mode).astype(np.int8),
-        failing_leg=np.where(short, last, out.failing_leg).astype(np.int16),
+        failure_mode=np.where(ice.turned_back, FailureMode.TURNED_BACK, np.where(
+            short, FailureMode.ENERGY, out.failure_mode)).astype(np.int8),
+        failing_leg=np.where(ice.turned_back, ice.turn_leg,
+                             np.where(short, last, out.failing_leg)).astype(np.int16),
         duration_days=out.duration / SECONDS_PER_DAY,
         margin_Wh=ice.margin / _J_PER_WH,
         margin_fraction=ice.margin_fraction,
