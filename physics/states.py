@@ -27,6 +27,9 @@ class FailureMode(IntEnum):
     CANNOT_TRIM = 5
     #: the flight policy needs a net buoyancy beyond the engine's limit and may not fall back
     CANNOT_HOLD_FLIGHT = 6
+    #: turned back under ice at the point of no return (or where a current stopped it) and
+    #: flew back to a safe exit: the vehicle is safe, the mission aborted
+    TURNED_BACK = 7
 
 
 #: plain-language names for tables and the report
@@ -38,6 +41,7 @@ FAILURE_MODE_NAMES = {
     FailureMode.TIME_LIMIT: "over the duration limit",
     FailureMode.CANNOT_TRIM: "cannot trim",
     FailureMode.CANNOT_HOLD_FLIGHT: "cannot hold flight",
+    FailureMode.TURNED_BACK: "turned back to a safe exit",
 }
 
 
