@@ -376,7 +376,8 @@ def _cmd_starter(args, console: Console) -> int:
 def _cmd_study(args, console: Console) -> int:
     from uq.report import write_study
     from uq.sampling import backends
-    from uq.studies.batch import load_study, run_study
+    from uq.scenario.study_file import load_study
+    from uq.studies.batch import run_study
 
     study = load_study(args.studyfile)
     out = _out_dir(args, study.name, console)
