@@ -517,7 +517,8 @@ class _Reader:
         close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
         self.fail(path, name, "the name of an uncertain input of this scenario", close[0] if close else None)
 
-    def below(self, a: Any, a_path: str, b: Any, b_path: str, *, blame: str, relation: str) -> None:
+    def below(self, a: Any, a_path: str, b: Any, b_path: str, *, blame: str, relation: str,
+              strict: bool = True) -> None:
         """Require a < b for every possible value (support-wise for distributions).
 
         ``blame`` is the path reported ("a" or "b" side); ``relation`` words the expectation.
@@ -525,7 +526,7 @@ class _Reader:
         a_hi = a.support[1] if isinstance(a, Marginal) else float(a)
         b_lo = b.support[0] if isinstance(b, Marginal) else float(b)
         both_fixed = not isinstance(a, Marginal) and not isinstance(b, Marginal)
-        if a_hi > b_lo or (a_hi == b_lo and both_fixed):
+        if a_hi > b_lo or (a_hi == b_lo and both_fixed and strict):
             if blame == "a":
                 key, value, other, bound = a_path, a, b, f"as small as {_num(b_lo)}"
             else:
@@ -814,11 +815,11 @@ class _Reader:
         for leg in legs:
             path = f"legs.{leg.name}"
             self.below(setpoint.depth_m, "setpoint.depth_m", leg.seabed_m, f"{path}.seabed_m",
-                       blame="b", relation="a seabed deeper than setpoint.depth_m (the vehicle "
-                       "runs at that depth)")
+                       blame="b", relation="a seabed at or below setpoint.depth_m (the "
+                       "vehicle runs at that depth)", strict=False)
             self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", setpoint.depth_m,
-                       "setpoint.depth_m", blame="a", relation="an ice ceiling shallower than "
-                       "setpoint.depth_m (the vehicle runs at that depth)")
+                       "setpoint.depth_m", blame="a", relation="an ice ceiling at or above "
+                       "setpoint.depth_m (the vehicle runs at that depth)", strict=False)
 
     def battery_in_hull(self, vehicle: PropellerVehicle, battery: Battery) -> None:
         """The battery's energy per litre of hull must be one a pack can hold."""

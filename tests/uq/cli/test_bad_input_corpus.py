@@ -129,7 +129,9 @@ def _envelope_values(kind: str, text: str):
         lo, hi = row.possible
         bad = ["-1e300", "nan", "-inf", "1" + "0" * 400]  # 10^400: beyond the float range
         if hi != float("inf"):  # (an unbounded field takes 1e300 as "never"; inf likewise)
-            bad += ["1e300", "inf", repr(hi * 10 + 1)]
+            bad += ["1e300", repr(hi * 10 + 1)]
+            if not field.endswith("seabed_m"):  # seabed_m = inf is "no seabed limit"
+                bad.append("inf")
         if lo > 0 or lo < 0:
             bad.append(repr(lo - abs(lo) * 10 - 1))
         for v in bad:
