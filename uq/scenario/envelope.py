@@ -114,6 +114,10 @@ PROPELLER: tuple[Limit, ...] = (
           "battery AUVs cruise at 1-2.5 m/s and never reach 20 m/s"),
     Limit("setpoint.depth_m", "m", (0.0, 11000.0), (0.0, 6000.0),
           "AUV depth ratings go to 6,000 m; the ocean ends near 11,000 m"),
+    Limit("legs.*.speed_m_s", "m/s", (0.0, 20.0), (0.3, 4.0),
+          "battery AUVs cruise at 1-2.5 m/s and never reach 20 m/s"),
+    Limit("legs.*.depth_m", "m", (0.0, 11000.0), (0.0, 6000.0),
+          "AUV depth ratings go to 6,000 m; the ocean ends near 11,000 m"),
     # Hotel loads of survey AUVs are tens to a few hundred watts (from memory).
     Limit("vehicle.hotel_load_W", "W", (0.0, 100000.0), (0.0, 2000.0),
           "AUV hotel loads are tens to hundreds of watts"),
