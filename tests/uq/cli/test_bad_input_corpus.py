@@ -12,6 +12,7 @@ run as real processes at the end, to see the true exit status and stderr.
 """
 from __future__ import annotations
 
+import dataclasses
 import os
 import re
 import shutil
@@ -306,9 +307,13 @@ def _corpus() -> list[Case]:
         cases += _whole_file_cases(kind, text)
     cases += _special_files()
     cases += _study_cases()
-    ids = [c.id for c in cases]
-    assert len(ids) == len(set(ids)), "case ids must be unique"
-    return cases
+    seen: dict[str, int] = {}
+    unique = []
+    for c in cases:  # a key repeated in an array of tables gets a counter
+        n = seen[c.id] = seen.get(c.id, 0) + 1
+        unique.append(c if n == 1 else dataclasses.replace(c, id=f"{c.id}-{n}"))
+    assert len({c.id for c in unique}) == len(unique), "case ids must be unique"
+    return unique
 
 
 CORPUS = _corpus()
