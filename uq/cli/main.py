@@ -236,6 +236,9 @@ def _report(args, assessment, out: Path, console: Console, **extra) -> Path:
 
 def _finish(console: Console, assessment, folder: Path) -> None:
     console.result(assessment.verdict.sentence)
+    table = getattr(assessment.propagation, "outcome_table", None)
+    if table is not None:
+        console.result(table.sentence())
     console.result(f"Report: {folder / 'index.html'}")
 
 
