@@ -40,7 +40,7 @@ _LAZY = {
     "compare_scenarios": "uq.studies.sweeps",
     "load_study": "uq.scenario.study_file",
     "run_study": "uq.studies.batch",
-    "write_study": "uq.studies.batch",
+    "write_study": "uq.report",
     "write_report": "uq.report",
 }
 

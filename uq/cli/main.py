@@ -7,14 +7,20 @@ Sub-commands::
     transit-risk sweep SCENARIO --values .. P(success) over setpoint values, with the report
     transit-risk compare SCENARIO_A SCENARIO_B   paired comparison of two configurations
     transit-risk starter PATH               write a commented starter scenario to edit
+    transit-risk study STUDYFILE            batch study of many variants on shared samples
 
-Errors in what the user gave (scenario file, options, output folder) print one line
-``transit-risk: error: <message>`` on stderr and exit with status 2 (``--debug`` adds the
-traceback). An interrupt exits 130 (SIGINT) or 143 (SIGTERM) and leaves no partial report.
+Every command goes through :func:`main`: errors in what the user gave (scenario or study
+file, options, output folder) print one line ``transit-risk: error: <message>`` on stderr
+and exit with status 2 (``--debug`` adds the traceback); an interrupt exits 130 (SIGINT) or
+143 (SIGTERM) and leaves no partial output; a closed stdout pipe stops quietly. The output
+folder is checked before any computation (:func:`uq.report.prepare_output`). Warnings raised
+during a run (e.g. a seawater fit used outside its range) become cautions: one plain line
+``transit-risk: caution: <text>`` on stderr (not with ``--quiet``), and a line in the report;
+worker processes never print them.
 """
 from __future__ import annotations
 
-from uq.errors import InputError
+from uq.errors import InputError, TransitRiskError
 
 import argparse
 import os
@@ -24,14 +30,14 @@ import sys
 import tempfile
 import traceback
 import warnings
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Sequence
 
+from uq.cli.console import PROG, Console, one_line
 from uq.scenario.demos import DEMOS, demo_path, demo_text
 
 __all__ = ["main", "build_parser", "DEMOS"]
-
-PROG = "transit-risk"
 
 DEFAULT_DEMO = DEMOS["propeller"]
 
@@ -39,13 +45,6 @@ _EXIT_USER_ERROR = 2
 _EXIT_INTERNAL = 1
 _EXIT_SIGINT = 130
 _EXIT_SIGTERM = 143
-
-_STAGE_LABELS = {
-    "propagation": "propagation (samples)",
-    "sensitivity": "sensitivity (Saltelli + polynomial chaos)",
-    "decisions": "decisions (verdict, contingency, tests)",
-}
-
 
 class _Terminated(KeyboardInterrupt):
     """SIGTERM, raised in the main thread so that clean-up runs as for Ctrl-C."""
@@ -60,7 +59,7 @@ class _Parser(argparse.ArgumentParser):
     """argparse, but a usage error is one line ``transit-risk: error: ...`` (exit 2)."""
 
     def error(self, message: str):  # noqa: D401 - argparse API
-        self.exit(_EXIT_USER_ERROR, f"{PROG}: error: {_one_line(message)}\n")
+        self.exit(_EXIT_USER_ERROR, f"{PROG}: error: {one_line(message)}\n")
 
 
 def _positive_int(text: str) -> int:
@@ -175,136 +174,50 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--overwrite", action="store_true", help="replace an existing file")
     p.set_defaults(func=_cmd_starter)
 
-    sub.add_parser("study", add_help=False,
-                   help="batch study of many scenario variants on shared samples "
-                        "(see 'transit-risk study --help')")
+    p = sub.add_parser("study", parents=[output],
+                       help="batch study of many scenario variants on shared samples",
+                       description="Run every variant of the study file's base scenario on "
+                                   "shared samples and write the study folder.")
+    p.add_argument("studyfile", metavar="STUDYFILE", help="study file (TOML)")
+    p.add_argument("--samples", type=_positive_int, metavar="N",
+                   help="samples per variant (default: the study file's)")
+    p.add_argument("--seed", type=_nonnegative_int, metavar="S",
+                   help="random seed (default: the study file's)")
+    p.add_argument("--out", metavar="DIR", help="study folder (default reports/<study name>/)")
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace an existing study folder written by transit-risk")
+    where = p.add_mutually_exclusive_group()
+    where.add_argument("--workers", type=_positive_int, metavar="W", default=1,
+                       help="local worker processes (default 1); results do not depend on it")
+    where.add_argument("--scheduler", metavar="ADDRESS",
+                       help="run on a running Dask scheduler (needs the dask extra)")
+    where.add_argument("--local-cluster", type=_positive_int, metavar="N", dest="local_cluster",
+                       help="start a loopback Dask cluster of N worker processes")
+    p.set_defaults(func=_cmd_study)
     return parser
-
-
-# =============================================================================== output
-def _one_line(text: object) -> str:
-    return " ".join(str(text).split()) or "unknown error"
-
-
-class _Console:
-    """Progress on stderr: tqdm bars on a terminal, one-line stage messages when piped."""
-
-    def __init__(self, *, quiet: bool, stream=None):
-        self.stream = stream if stream is not None else sys.stderr
-        self.quiet = quiet
-        try:
-            self.tty = bool(self.stream.isatty())
-        except (AttributeError, ValueError):
-            self.tty = False
-        self._bar = None
-        self._stage = None
-        self._ticker = None
-
-    def _tick(self, stop) -> None:
-        """Refresh the open bar twice a second so elapsed time moves in long stages."""
-        while not stop.wait(0.5):
-            bar = self._bar
-            if bar is not None:
-                try:
-                    bar.refresh()
-                except Exception:  # a bar closed under our feet: nothing to show
-                    pass
-
-    def _start_ticker(self) -> None:
-        if self._ticker is None:
-            import threading
-
-            stop = threading.Event()
-            thread = threading.Thread(target=self._tick, args=(stop,), daemon=True)
-            thread.start()
-            self._ticker = (stop, thread)
-
-    def stop(self) -> None:
-        """Close the bar and stop the refresher thread."""
-        self.close_bar()
-        if self._ticker is not None:
-            self._ticker[0].set()
-            self._ticker[1].join(timeout=1.0)
-            self._ticker = None
-
-    def message(self, text: str) -> None:
-        """A one-line status message (not when quiet)."""
-        if self.quiet:
-            return
-        self.close_bar()
-        print(f"{PROG}: {text}", file=self.stream, flush=True)
-
-    def stage(self, name: str, done: int, total: int) -> None:
-        """Progress callback of :func:`uq.studies.assess.assess`."""
-        if self.quiet:
-            return
-        label = _STAGE_LABELS.get(name, name)
-        if name != self._stage:
-            self.close_bar()
-            self._stage = name
-            if self.tty:
-                from tqdm import tqdm
-
-                self._start_ticker()
-                self._bar = tqdm(total=total, desc=label, file=self.stream, leave=True,
-                                 unit="" if total <= 1 else " samples", dynamic_ncols=True,
-                                 bar_format=None if total > 1 else "{desc}: {elapsed}")
-            else:
-                print(f"{PROG}: {label}...", file=self.stream, flush=True)
-        if self._bar is not None:
-            self._bar.n = min(done, self._bar.total or done)
-            self._bar.refresh()
-
-    def step(self, text: str) -> None:
-        """Progress callback of :func:`uq.report.write_report`."""
-        if self.quiet:
-            return
-        if self._stage != "report":
-            self.close_bar()
-            self._stage = "report"
-            if self.tty:
-                from tqdm import tqdm
-
-                self._bar = tqdm(total=4, desc="report", file=self.stream, leave=True,
-                                 dynamic_ncols=True, bar_format="{desc}: {n}/{total} {postfix} [{elapsed}]")
-            else:
-                print(f"{PROG}: writing the report...", file=self.stream, flush=True)
-        if self._bar is not None:
-            self._bar.set_postfix_str(text, refresh=False)
-            if self._bar.n < self._bar.total:
-                self._bar.update(1)
-            else:
-                self._bar.refresh()
-
-    def close_bar(self) -> None:
-        if self._bar is not None:
-            self._bar.close()
-            self._bar = None
-        self._stage = None
-
-    def result(self, text: str) -> None:
-        """A result line on stdout (not when quiet)."""
-        if not self.quiet:
-            self.close_bar()
-            print(text, flush=True)
 
 
 # =============================================================================== helpers
 def _load(path: str | os.PathLike):
+    """Read a scenario; its cautions (implausible values, defaults) go to stderr once."""
     from uq.scenario import load_scenario
 
-    return load_scenario(path)
+    scenario = load_scenario(path)
+    for text in scenario.cautions:
+        _CAUTIONS.note(text)
+    return scenario
 
 
-def _out_dir(args, scenario, suffix: str = "") -> Path:
-    from uq.report import default_report_dir
+def _out_dir(args, name: str, console: Console, suffix: str = "") -> Path:
+    """The output folder (``--out`` or ``reports/<safe name>``), checked before any work."""
+    from uq.report import default_output_dir, prepare_output
 
-    if args.out:
-        return Path(args.out)
-    return default_report_dir(scenario.name, suffix=suffix)
+    out = Path(args.out) if args.out else default_output_dir(name, suffix=suffix)
+    prepare_output(out, overwrite=args.overwrite, notes=console.message)
+    return out
 
 
-def _assess(args, scenario, console: _Console):
+def _assess(args, scenario, console: Console):
     from uq.studies.assess import assess
 
     return assess(scenario, samples=args.samples, seed=args.seed,
@@ -312,16 +225,16 @@ def _assess(args, scenario, console: _Console):
                   progress=console.stage)
 
 
-def _report(args, assessment, out: Path, console: _Console, **extra) -> Path:
+def _report(args, assessment, out: Path, console: Console, **extra) -> Path:
     from uq.report import write_report
 
     folder = write_report(assessment, out, overwrite=args.overwrite, progress=console.step,
-                          **extra)
+                          notes=console.message, **extra)
     console.close_bar()
     return folder
 
 
-def _finish(console: _Console, assessment, folder: Path) -> None:
+def _finish(console: Console, assessment, folder: Path) -> None:
     console.result(assessment.verdict.sentence)
     table = getattr(assessment.propagation, "outcome_table", None)
     if table is not None:
@@ -330,21 +243,20 @@ def _finish(console: _Console, assessment, folder: Path) -> None:
 
 
 # =============================================================================== commands
-def _cmd_assess(args, console: _Console) -> int:
+def _cmd_assess(args, console: Console) -> int:
     if args.scenario is None:
         with demo_path(DEFAULT_DEMO) as path:
             scenario = _load(path)
     else:
         scenario = _load(args.scenario)
-    out = _out_dir(args, scenario)
-    _check_out(out, args.overwrite)
+    out = _out_dir(args, scenario.name, console)
     assessment = _assess(args, scenario, console)
     folder = _report(args, assessment, out, console)
     _finish(console, assessment, folder)
     return 0
 
 
-def _cmd_check(args, console: _Console) -> int:
+def _cmd_check(args, console: Console) -> int:
     from uq.simulate import nominal
 
     scenario = _load(args.scenario)
@@ -358,8 +270,7 @@ def _cmd_check(args, console: _Console) -> int:
         f"  range             {row['range_km']:,.1f} km"
         + (" (or more: censored at the model's look-ahead)" if row["range_censored"] else ""),
         f"  duration          {row['duration_days']:,.2f} days" + _limit_text(scenario),
-        f"  energy margin     {row['margin_Wh']:,.0f} Wh at arrival "
-        f"({100 * row['margin_fraction']:.1f} % of usable energy, above the reserve)",
+        _margin_text(row),
         f"  success           {'yes' if result.success else 'no'}"
         + ("" if result.success else
            f" - {row['failure_mode']}" + (f" on leg {row['failing_leg']}" if row["failing_leg"] else "")),
@@ -373,6 +284,17 @@ def _cmd_check(args, console: _Console) -> int:
     return 0
 
 
+def _margin_text(row) -> str:
+    """The energy margin above the reserve, or the shortfall below it, in plain words."""
+    margin, fraction = float(row["margin_Wh"]), float(row["margin_fraction"])
+    share = (f"{100 * abs(fraction):.1f} % of usable energy" if abs(fraction) < 10
+             else f"{abs(fraction):,.0f} times the usable energy")
+    if margin >= 0:
+        return f"  energy margin     {margin:,.0f} Wh above the reserve at arrival ({share})"
+    return (f"  energy shortfall  {-margin:,.0f} Wh below the reserve ({share}): the vehicle "
+            "runs out before the recovery point")
+
+
 def _limit_text(scenario) -> str:
     limit = scenario.limits.max_duration_days
     if isinstance(limit, (int, float)):
@@ -380,14 +302,13 @@ def _limit_text(scenario) -> str:
     return f" (limit uncertain, median {limit.median:,.2f} days)"
 
 
-def _cmd_sweep(args, console: _Console) -> int:
+def _cmd_sweep(args, console: Console) -> int:
     from uq.studies import sweeps as studies
 
     scenario = _load(args.scenario)
     field = args.field or next(iter(studies.SWEEPABLE[scenario.vehicle.kind]))
     suffix = "-sweep-" + field.split(".")[-1]
-    out = _out_dir(args, scenario, suffix)
-    _check_out(out, args.overwrite)
+    out = _out_dir(args, scenario.name, console, suffix)
     # validate the field before the long stages
     studies.with_setpoint(scenario, field, args.values[0])
     assessment = _assess(args, scenario, console)
@@ -400,13 +321,12 @@ def _cmd_sweep(args, console: _Console) -> int:
     return 0
 
 
-def _cmd_compare(args, console: _Console) -> int:
+def _cmd_compare(args, console: Console) -> int:
     from uq.studies import sweeps as studies
 
     a = _load(args.scenario)
     b = _load(args.other)
-    out = _out_dir(args, a, f"-vs-{b.name}")
-    _check_out(out, args.overwrite)
+    out = _out_dir(args, a.name, console, f"-vs-{b.name}")
     assessment = _assess(args, a, console)
     console.message(f"comparing {a.name} with {b.name} on shared samples...")
     comparison = studies.compare_scenarios(a, b, samples=args.samples, seed=args.seed)
@@ -416,13 +336,17 @@ def _cmd_compare(args, console: _Console) -> int:
     return 0
 
 
-def _cmd_starter(args, console: _Console) -> int:
+def _cmd_starter(args, console: Console) -> int:
     target = Path(args.path)
     if (target.exists() or target.is_symlink()) and not args.overwrite:
         raise FileExistsError(f"{str(target)!r} already exists; pass --overwrite to replace it")
     if target.is_dir():
         raise IsADirectoryError(f"{str(target)!r} is a folder; expected a file name such as "
                                 "my_mission.toml")
+    if (target.exists() or target.is_symlink()) and (
+            target.suffix.lower() != ".toml" or target.is_symlink() or not target.is_file()):
+        raise FileExistsError(f"{str(target)!r} exists and is not a .toml scenario file: "
+                              "transit-risk never replaces it (not even with --overwrite)")
     demo = DEMOS[args.kind]
     text = demo_text(demo)
     stem = re.sub(r"[^A-Za-z0-9_-]+", "-", target.stem).strip("-") or "my-mission"
@@ -452,15 +376,90 @@ def _cmd_starter(args, console: _Console) -> int:
     return 0
 
 
-def _check_out(out: Path, overwrite: bool) -> None:
-    """Refuse an existing report folder before computing anything."""
-    from uq.report.writer import ReportExistsError
+def _cmd_study(args, console: Console) -> int:
+    from uq.report import write_study
+    from uq.sampling import backends
+    from uq.scenario.study_file import load_study
+    from uq.studies.batch import run_study
 
-    if (out.exists() or out.is_symlink()) and not overwrite:
-        if not (out.is_dir() and not any(out.iterdir())):
-            raise ReportExistsError(
-                f"report folder {str(out)!r} already exists; choose another --out or pass "
-                "--overwrite to replace it")
+    study = load_study(args.studyfile)
+    out = _out_dir(args, study.name, console)
+    if args.scheduler is not None or args.local_cluster is not None:
+        context = backends.dask_executor(args.scheduler, local_workers=args.local_cluster)
+    else:
+        context = backends.local_executor(args.workers)
+    total = args.samples if args.samples is not None else study.samples
+    with context as executor:
+        result = run_study(study, samples=args.samples, seed=args.seed, executor=executor,
+                           progress=lambda rows: console.stage("study", rows, total))
+    console.close_bar()
+    written = write_study(result, out, overwrite=args.overwrite, cautions=_CAUTIONS.seen,
+                          notes=console.message)
+    frame = result.to_frame()
+    cols = ["variant", "p_success", "p_success_low", "p_success_high", "verdict",
+            "contingency_days", "mean_margin_Wh", "top_input"]
+    import pandas as pd
+
+    with pd.option_context("display.width", 200, "display.max_columns", 20,
+                           "display.max_colwidth", 60):
+        console.result(frame[cols].to_string(index=False))
+    console.result(f"Study: {written / 'index.html'} ({len(result.variants)} variants, "
+                   f"{result.samples:,} samples each, seed {result.seed}, "
+                   f"{result.elapsed_s:.1f} s)")
+    return 0
+
+
+# =============================================================================== warnings
+class _CautionLines:
+    """Warnings of a run as cautions: one plain stderr line each, once, never from workers.
+
+    Installed as :func:`warnings.showwarning` by :func:`main`. A forked worker process
+    inherits it and stays silent (its pid differs); spawned workers (Dask) inherit
+    ``PYTHONWARNINGS=ignore`` from :func:`main`'s environment. The parent's own warnings
+    are kept in ``seen`` (first line of each, in order) for the study page.
+    """
+
+    def __init__(self) -> None:
+        self.pid = os.getpid()
+        self.quiet = True
+        self.seen: list[str] = []
+
+    def reset(self, *, quiet: bool) -> None:
+        self.pid, self.quiet, self.seen = os.getpid(), quiet, []
+
+    def showwarning(self, message, category, filename, lineno, file=None, line=None):
+        self.note(str(message).split("\n")[0])
+
+    def note(self, text: str) -> None:
+        """One caution line on stderr (once per text, not when quiet, not in a worker)."""
+        if os.getpid() != self.pid:
+            return
+        text = one_line(text)
+        if text in self.seen:
+            return
+        self.seen.append(text)
+        if not self.quiet:
+            print(f"{PROG}: caution: {text}", file=sys.stderr, flush=True)
+
+
+_CAUTIONS = _CautionLines()
+
+
+@contextmanager
+def _warnings_as_cautions(quiet: bool):
+    _CAUTIONS.reset(quiet=quiet)
+    saved = os.environ.get("PYTHONWARNINGS")
+    os.environ["PYTHONWARNINGS"] = "ignore"  # spawned workers (Dask) print nothing
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("default")
+            warnings.showwarning = _CAUTIONS.showwarning
+            yield
+    finally:
+        if saved is None:
+            os.environ.pop("PYTHONWARNINGS", None)
+        else:
+            os.environ["PYTHONWARNINGS"] = saved
 
 
 # =============================================================================== main
@@ -472,25 +471,19 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit status (0 ok, 1 internal error, 2 user error,
     130 interrupted, 143 terminated)."""
     arguments = list(sys.argv[1:] if argv is None else argv)
-    if arguments[:1] == ["study"]:  # batch studies have their own parser (uq.studies.batch)
-        from uq.studies.batch import study_main
-
-        return study_main(arguments[1:])
     parser = build_parser()
     try:
         args = parser.parse_args(arguments)
     except SystemExit as exc:  # --help (0) or a usage error (2, already printed)
         return exc.code if isinstance(exc.code, int) else _EXIT_USER_ERROR
-    console = _Console(quiet=args.quiet)
+    console = Console(quiet=args.quiet)
     previous = None
     try:
         previous = signal.signal(signal.SIGTERM, _on_sigterm)
     except ValueError:  # not the main thread: leave SIGTERM alone
         previous = None
     try:
-        with warnings.catch_warnings():
-            if args.quiet:
-                warnings.simplefilter("ignore")
+        with _warnings_as_cautions(args.quiet):
             return args.func(args, console)
     except BrokenPipeError:  # e.g. 'transit-risk check x.toml | head': stop quietly
         try:
@@ -505,10 +498,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         return _fail(console, args, "interrupted; no report was written", _EXIT_SIGINT,
                      show_trace=False)
-    except (ValueError, OSError) as exc:  # ScenarioError is a ValueError
-        return _fail(console, args, _one_line(exc), _EXIT_USER_ERROR)
+    except RecursionError as exc:  # deep nesting that slipped past a reader
+        return _fail(console, args, f"input too deeply nested to read ({one_line(exc)})",
+                     _EXIT_USER_ERROR)
+    except (TransitRiskError, ValueError, OSError) as exc:  # ScenarioError is a ValueError
+        return _fail(console, args, one_line(exc), _EXIT_USER_ERROR)
     except Exception as exc:  # a defect, not the user's fault
-        return _fail(console, args, f"internal error: {type(exc).__name__}: {_one_line(exc)}"
+        return _fail(console, args, f"internal error: {type(exc).__name__}: {one_line(exc)}"
                      + ("" if args.debug else " (run with --debug for the traceback)"),
                      _EXIT_INTERNAL)
     finally:
@@ -517,7 +513,7 @@ def main(argv: Sequence[str] | None = None) -> int:
             signal.signal(signal.SIGTERM, previous)
 
 
-def _fail(console: _Console, args, message: str, code: int, *, show_trace: bool = True) -> int:
+def _fail(console: Console, args, message: str, code: int, *, show_trace: bool = True) -> int:
     console.close_bar()
     if args.debug and show_trace:
         traceback.print_exc(file=sys.stderr)

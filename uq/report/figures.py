@@ -1,4 +1,8 @@
-"""Figures of the report (matplotlib, Agg backend; every figure is closed after saving).
+"""Figures of the report, drawn with matplotlib's object API.
+
+Figures are :class:`matplotlib.figure.Figure` objects rendered straight to PNG and SVG; the
+module never selects a backend and never touches pyplot's global state, so importing it (or
+writing a report from a notebook) leaves the user's plotting set-up alone.
 
 Each ``*_figure`` function takes already-computed results and returns a matplotlib Figure;
 :func:`save_figure` writes it as PNG and SVG and returns the PNG bytes for embedding.
@@ -8,11 +12,8 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
-import matplotlib
-
-matplotlib.use("Agg")  # before pyplot: no display, no GUI event loop
-import matplotlib.pyplot as plt  # noqa: E402
-import numpy as np  # noqa: E402
+import numpy as np
+from matplotlib.figure import Figure
 
 __all__ = [
     "save_figure",
@@ -33,22 +34,25 @@ def _text(label: object) -> str:
     return str(label).replace("$", r"\$")
 
 
+def _subplots(figsize: tuple[float, float]):
+    """A new free-standing Figure and its one Axes (no pyplot, no backend switch)."""
+    fig = Figure(figsize=figsize)
+    return fig, fig.subplots()
+
+
 def save_figure(fig, folder: Path, stem: str) -> bytes:
     """Write ``fig`` as ``<stem>.png`` and ``<stem>.svg`` in ``folder``; return the PNG bytes."""
-    try:
-        buffer = io.BytesIO()
-        fig.savefig(buffer, format="png", dpi=_DPI, bbox_inches="tight")
-        png = buffer.getvalue()
-        (folder / f"{stem}.png").write_bytes(png)
-        fig.savefig(folder / f"{stem}.svg", format="svg", bbox_inches="tight")
-        return png
-    finally:
-        plt.close(fig)
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="png", dpi=_DPI, bbox_inches="tight")
+    png = buffer.getvalue()
+    (folder / f"{stem}.png").write_bytes(png)
+    fig.savefig(folder / f"{stem}.svg", format="svg", bbox_inches="tight")
+    return png
 
 
 def range_curve_figure(curve, *, route_km: float, required_probability: float):
     """P(range >= x) with its pointwise interval and the simultaneous DKW band."""
-    fig, ax = plt.subplots(figsize=(7.2, 4.2))
+    fig, ax = _subplots((7.2, 4.2))
     x = np.asarray(curve.grid, dtype=float)
     ax.fill_between(x, curve.band_lower, curve.band_upper, color=_GREY, alpha=0.25, lw=0,
                     label=f"simultaneous {curve.confidence:.0%} band (DKW)")
@@ -71,7 +75,7 @@ def range_curve_figure(curve, *, route_km: float, required_probability: float):
 def failures_figure(failures):
     """Share of samples failing by mode and by leg, with interval whiskers."""
     rows = [r for r in failures.modes] + [r for r in failures.legs]
-    fig, ax = plt.subplots(figsize=(7.2, 0.45 * len(rows) + 1.4))
+    fig, ax = _subplots((7.2, 0.45 * len(rows) + 1.4))
     y = np.arange(len(rows))[::-1]
     share = np.array([r.share_of_samples for r in rows], dtype=float)
     lo = np.array([r.share_of_samples_low for r in rows], dtype=float)
@@ -91,7 +95,7 @@ def failures_figure(failures):
 def sensitivity_figure(indices, *, title: str):
     """First-order and total Sobol indices of one output with interval whiskers."""
     factors = list(indices.factors)
-    fig, ax = plt.subplots(figsize=(7.2, 0.42 * len(factors) + 1.4))
+    fig, ax = _subplots((7.2, 0.42 * len(factors) + 1.4))
     y = np.arange(len(factors))[::-1]
     h = 0.38
     for offset, value, interval, color, label in (
@@ -118,7 +122,7 @@ def contingency_figure(durations_days, contingency):
     """Histogram of arrival time with the booking quantiles and the nominal plan marked."""
     d = np.asarray(durations_days, dtype=float)
     d = d[np.isfinite(d)]
-    fig, ax = plt.subplots(figsize=(7.2, 3.8))
+    fig, ax = _subplots((7.2, 3.8))
     ax.hist(d, bins=min(60, max(10, int(np.sqrt(d.size)))), color=_BLUE, alpha=0.75)
     ax.axvline(contingency.nominal_days, color="black", ls="--", lw=1.2,
                label=f"nominal plan {contingency.nominal_days:,.2f} d")
@@ -142,7 +146,7 @@ def sweep_figure(summary):
     p = np.array([r.probability_of_success for r in summary.rows], dtype=float)
     lo = np.array([r.probability_low for r in summary.rows], dtype=float)
     hi = np.array([r.probability_high for r in summary.rows], dtype=float)
-    fig, ax = plt.subplots(figsize=(7.2, 3.8))
+    fig, ax = _subplots((7.2, 3.8))
     ax.errorbar(x, 100 * p, yerr=[100 * (p - lo), 100 * (hi - p)], fmt="o-", color=_BLUE,
                 capsize=3, label="P(success)")
     ax.axhline(100 * summary.required_probability, color=_ORANGE, ls=":",
@@ -160,7 +164,7 @@ def sweep_figure(summary):
 def glide_polar_figure(polar, *, operating_u: float, operating_w: float,
                        glide_angle_deg: float, net_buoyancy_N: float):
     """Glide polar (vertical against horizontal speed) with the operating point."""
-    fig, ax = plt.subplots(figsize=(6.4, 4.2))
+    fig, ax = _subplots((6.4, 4.2))
     u = np.asarray(polar.horizontal_speed, dtype=float).ravel()
     w = np.asarray(polar.vertical_speed, dtype=float).ravel()
     ax.plot(u, w, color=_BLUE, lw=1.8, label=f"polar at B = {net_buoyancy_N:g} N")

@@ -9,7 +9,7 @@ from typing import Any
 
 from uq.report._format import json_safe
 
-__all__ = ["SCHEMA_VERSION", "build_summary", "interval_dict", "nominal_dict"]
+__all__ = ["SCHEMA_VERSION", "build_summary", "interval_dict", "nominal_dict", "run_cautions"]
 
 SCHEMA_VERSION = 1
 
@@ -21,6 +21,12 @@ def interval_dict(est) -> dict[str, Any]:
     if hasattr(est, "q"):
         out = {"q": est.q, **out}
     return out
+
+
+def run_cautions(assessment) -> list[str]:
+    """The scenario's cautions (implausible values, defaults taken), then the run's."""
+    scenario = getattr(assessment.scenario, "cautions", ())
+    return list(dict.fromkeys([*scenario, *assessment.cautions]))
 
 
 def nominal_dict(nominal) -> dict[str, Any]:
@@ -152,7 +158,7 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         ],
         "sweep": _sweep_summary(sweep).to_dict() if sweep is not None else None,
         "comparison": _comparison(comparison).to_dict() if comparison is not None else None,
-        "cautions": list(a.cautions),
+        "cautions": run_cautions(a),
         "versions": dict(a.versions),
         "timings_s": dict(a.timings_s),
         "settings": st.to_dict(),

@@ -7,17 +7,9 @@ removed, so a reader never sees half a report. An existing report is replaced on
 """
 from __future__ import annotations
 
-from uq.errors import TransitRiskError
-
 import base64
-import json
 import os
-import re
-import shutil
-import tempfile
 import time
-import unicodedata
-from datetime import datetime, timezone
 from pathlib import Path
 from typing import Callable
 
@@ -26,7 +18,12 @@ import pandas as pd
 
 from uq.report import figures as fig_mod
 from uq.report._format import Formatter, finite_or_none
-from uq.report.summary import build_summary, nominal_dict
+from uq.report.files import (
+    REPORTS_ROOT, ReportExistsError, default_output_dir, safe_folder_name, write_csv,
+    write_folder, write_json,
+)
+from uq.report.pages import render_page
+from uq.report.summary import build_summary, nominal_dict, run_cautions
 from uq.simulate import glide_operating_point
 
 __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write_report",
@@ -70,43 +67,11 @@ MODEL_ASSUMPTIONS = (
     "model-form error or errors in the input distributions.",
 )
 
-_SAFE_CHARS = re.compile(r"[^A-Za-z0-9._-]+")
-_WINDOWS_RESERVED = {"con", "prn", "aux", "nul", *(f"com{i}" for i in range(1, 10)),
-                     *(f"lpt{i}" for i in range(1, 10))}
-_MAX_NAME = 80
-
-
-class ReportExistsError(TransitRiskError, FileExistsError):
-    """The report folder already exists and ``overwrite`` was not given."""
-
-
-def safe_folder_name(name: str) -> str:
-    """A single, harmless path component made from a scenario name.
-
-    Letters, digits, ``.``, ``_`` and ``-`` are kept (after Unicode NFKD folding to ASCII);
-    every other run of characters becomes ``-``; leading dots and dashes are removed (no
-    hidden files, no ``..``); at most 80 characters; "scenario" if nothing is left.
-    """
-    text = unicodedata.normalize("NFKD", str(name)).encode("ascii", "ignore").decode("ascii")
-    text = _SAFE_CHARS.sub("-", text)
-    text = re.sub(r"-{2,}", "-", text).strip(".-")[:_MAX_NAME].strip(".-")
-    if not text:
-        return "scenario"
-    if text.split(".")[0].lower() in _WINDOWS_RESERVED:
-        text = "scenario-" + text
-    return text
-
-
-def default_report_dir(scenario_name: str, *, root: str | os.PathLike = "reports",
-                       suffix: str = "") -> Path:
-    """``<root>/<safe scenario name><suffix>`` (suffix sanitised too)."""
-    return Path(root) / safe_folder_name(scenario_name + suffix)
-
-
 # ======================================================================== writing
 def write_report(assessment, out_dir: str | os.PathLike, *, overwrite: bool = False,
                  sweep=None, comparison=None,
-                 progress: Callable[[str], None] | None = None) -> Path:
+                 progress: Callable[[str], None] | None = None,
+                 notes: Callable[[str], None] | None = None) -> Path:
     """Write the report of ``assessment`` into the folder ``out_dir``, atomically.
 
     Parameters
@@ -115,12 +80,15 @@ def write_report(assessment, out_dir: str | os.PathLike, *, overwrite: bool = Fa
     out_dir : path-like
         The report folder to create (its parent is created if missing).
     overwrite : bool, optional
-        Replace an existing report folder. Without it an existing folder (other than an
-        empty one) raises :class:`ReportExistsError`.
+        Replace an existing report folder that transit-risk wrote. Anything else (a file, a
+        folder without the tool's marker) is refused even with ``overwrite``; see
+        :func:`uq.report.files.check_output_folder`.
     sweep : uq.studies.SweepResult or uq.decisions.SweepSummary, optional
     comparison : uq.studies.ComparisonResult or uq.decisions.PairedComparison, optional
     progress : callable(str), optional
         Called with a short description before each step.
+    notes : callable(str), optional
+        Told when a partial folder of a killed run is removed or an old report put back.
 
     Returns
     -------
@@ -130,64 +98,20 @@ def write_report(assessment, out_dir: str | os.PathLike, *, overwrite: bool = Fa
     Raises
     ------
     ReportExistsError
-        ``out_dir`` exists and ``overwrite`` is False.
+        ``out_dir`` exists and ``overwrite`` is False, or it is not a report folder.
     OSError
         The folder cannot be written.
     """
-    out = Path(out_dir)
-    parent = out.parent if str(out.parent) else Path(".")
-    _refuse_existing(out, overwrite)
-    parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name[:40]}.partial-", dir=parent))
-    try:
-        os.chmod(tmp, 0o777 & ~_current_umask())  # mkdtemp makes it 0700; a report is shared
-        _build(assessment, tmp, sweep=sweep, comparison=comparison, progress=progress)
-        _refuse_existing(out, overwrite)  # it may have appeared while we were building
-        _move_into_place(tmp, out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    return out
+    def build(folder: Path) -> None:
+        _build(assessment, folder, sweep=sweep, comparison=comparison, progress=progress)
+
+    return write_folder(out_dir, build, kind="report", overwrite=overwrite, notes=notes)
 
 
-def _current_umask() -> int:
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return mask
-
-
-def _is_empty_dir(path: Path) -> bool:
-    return path.is_dir() and not path.is_symlink() and not any(path.iterdir())
-
-
-def _refuse_existing(out: Path, overwrite: bool) -> None:
-    if (out.exists() or out.is_symlink()) and not overwrite and not _is_empty_dir(out):
-        raise ReportExistsError(
-            f"report folder {str(out)!r} already exists; choose another folder or pass "
-            "--overwrite (overwrite=True) to replace it")
-
-
-def _move_into_place(tmp: Path, out: Path) -> None:
-    if not (out.exists() or out.is_symlink()):
-        os.rename(tmp, out)
-        return
-    if _is_empty_dir(out):
-        os.rmdir(out)
-        os.rename(tmp, out)
-        return
-    # overwrite: set the old report aside, move the new one in, then delete the old one
-    old = Path(tempfile.mkdtemp(prefix=f".{out.name[:40]}.old-", dir=out.parent))
-    os.rmdir(old)
-    os.rename(out, old)
-    try:
-        os.rename(tmp, out)
-    except BaseException:
-        os.rename(old, out)
-        raise
-    if old.is_dir() and not old.is_symlink():
-        shutil.rmtree(old, ignore_errors=True)
-    else:
-        old.unlink()
+def default_report_dir(scenario_name: str, *, root: str | os.PathLike = REPORTS_ROOT,
+                       suffix: str = "") -> Path:
+    """``<root>/<safe scenario name><suffix>`` (suffix sanitised too)."""
+    return default_output_dir(scenario_name, root=root, suffix=suffix)
 
 
 def _step(progress, text):
@@ -213,8 +137,7 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     _step(progress, "summary.json")
     summary = build_summary(a, sweep=sweep, comparison=comparison)
     summary["timings_s"]["report_tables_and_figures"] = report_s
-    text = json.dumps(summary, indent=2, ensure_ascii=False, allow_nan=False)
-    (folder / "summary.json").write_text(text + "\n", encoding="utf-8")
+    write_json(folder / "summary.json", summary)
 
     _step(progress, "index.html")
     html = render_html(a, images=images, sweep_summary=sweep_summary, pair=pair,
@@ -223,14 +146,7 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
 
 
 # ------------------------------------------------------------------------ tables
-def _csv(frame: pd.DataFrame, path: Path) -> None:
-    frame = frame.copy()
-    for col in frame.columns:
-        if frame[col].dtype == object:
-            frame[col] = frame[col].map(lambda v: ";".join(map(str, v))
-                                        if isinstance(v, (list, tuple)) else v)
-    frame = frame.replace([np.inf, -np.inf], np.nan)  # empty cell, never 'inf'
-    frame.to_csv(path, index=False)
+_csv = write_csv
 
 
 def inputs_frame(scenario, pinned: dict | None = None) -> pd.DataFrame:
@@ -326,17 +242,6 @@ def _make_figures(a, figdir: Path, *, sweep_summary) -> dict[str, str]:
 
 
 # ------------------------------------------------------------------------ HTML
-def _environment():
-    import jinja2
-
-    return jinja2.Environment(
-        loader=jinja2.PackageLoader("uq.report", "templates"),
-        autoescape=True,  # every scenario string is escaped
-        undefined=jinja2.StrictUndefined,
-        trim_blocks=True, lstrip_blocks=True,
-    )
-
-
 def _verdict_scale(p, required: float) -> dict[str, float]:
     """Positions [% of the bar width] of the interval, estimate and requirement."""
     lo_v = finite_or_none(p.lower) or 0.0
@@ -369,16 +274,16 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         grouped = {m for g in (sens.groups or ()) if len(g) > 1 for m in g}
         margin_vs = [{"input": n, "saltelli": saltelli.get(n), "pce": pce_total.get(n),
                       "grouped": n in grouped} for n in sc.input_names]
-    template = _environment().get_template("report.html.j2")
-    return template.render(
+    return render_page(
+        "report.html.j2",
         a=a, sc=sc, fmt=fmt, images=images, op=op, sweep=sweep_summary, pair=pair,
         nominal=nominal_dict(a.nominal),
         inputs=inputs_frame(sc, a.pinned).to_dict("records"),
         pinned=a.pinned, margin_vs=margin_vs,
         scale=_verdict_scale(a.propagation.p_success, sc.decision.required_probability),
-        cautions=CAUTIONS, assumptions=MODEL_ASSUMPTIONS, timings=timings,
+        cautions=CAUTIONS, run_cautions=run_cautions(a), assumptions=MODEL_ASSUMPTIONS,
+        timings=timings,
         total_time=sum(timings.values()),
-        generated=datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
         censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),
     )

@@ -72,6 +72,8 @@ def _short_repr(value: Any) -> str:
         text = repr(value)
     except ValueError:  # an integer past Python's digit limit for int -> str (4300 digits)
         text = f"<{type(value).__name__} too large to show>"
+    except RecursionError:  # a value nested deeper than repr can go
+        text = f"<{type(value).__name__} nested too deeply to show>"
     if len(text) > _MAX_VALUE_REPR:
         text = text[: _MAX_VALUE_REPR - 3] + "..."
     return text

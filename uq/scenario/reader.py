@@ -26,13 +26,16 @@ import hashlib
 import math
 import os
 import re
+import stat
 import tomllib
+import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
 
+from uq.scenario import envelope as _envelope
 from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
 from uq.scenario.errors import MISSING, ScenarioError
 from uq.scenario.types import (
@@ -42,7 +45,123 @@ from uq.scenario.types import (
     TestCandidate, UnderIce,
 )
 
-__all__ = ["load_scenario", "parse_scenario"]
+__all__ = ["load_scenario", "parse_scenario", "read_text_file", "parse_toml", "MAX_FILE_BYTES",
+           "MAX_NESTING"]
+
+#: Largest scenario or study file read [bytes]; real ones are a few kilobytes.
+MAX_FILE_BYTES = 4 * 1024 * 1024
+#: Deepest nesting of arrays and tables parsed (real files use 3 or 4 levels).
+MAX_NESTING = 64
+_BOM = "\ufeff"
+
+
+def read_text_file(path: str | os.PathLike[str], *, what: str = "scenario file",
+                   error: type[ScenarioError] = ScenarioError) -> tuple[str, bytes]:
+    """Read a UTF-8 text file the safe way: a regular file of at most :data:`MAX_FILE_BYTES`.
+
+    A FIFO, device, socket or folder is refused without reading it (a FIFO is opened
+    non-blocking, so nothing hangs); a symbolic link is followed to what it names and judged
+    by that. A UTF-8 byte-order mark is accepted and dropped.
+
+    Returns
+    -------
+    (str, bytes)
+        The text and the file's bytes (for the SHA-256 record).
+
+    Raises
+    ------
+    ScenarioError (or ``error``)
+        One line naming the file and what was expected.
+    """
+    label = os.fspath(path)
+
+    def fail(expected: str, exc: BaseException | None = None):
+        raise error(label, None, expected=expected) from exc
+
+    try:
+        fd = os.open(label, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0))
+    except OSError as exc:
+        fail(f"a readable {what} ({exc.strerror or exc})", exc)
+    try:
+        info = os.fstat(fd)
+        if not stat.S_ISREG(info.st_mode):
+            fail(f"a regular {what}, not {_file_kind(info.st_mode)}")
+        if info.st_size > MAX_FILE_BYTES:
+            fail(f"a {what} of at most {MAX_FILE_BYTES // 1024 // 1024} MiB "
+                 f"(this one has {info.st_size:,} bytes)")
+        with os.fdopen(os.dup(fd), "rb") as fh:
+            data = fh.read(MAX_FILE_BYTES + 1)
+    except OSError as exc:
+        fail(f"a readable {what} ({exc.strerror or exc})", exc)
+    finally:
+        os.close(fd)
+    if len(data) > MAX_FILE_BYTES:
+        fail(f"a {what} of at most {MAX_FILE_BYTES // 1024 // 1024} MiB (it grew while read)")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        fail(f"UTF-8 text, as TOML requires ({exc.reason} at byte {exc.start})", exc)
+    return (text[1:] if text.startswith(_BOM) else text), data
+
+
+def _file_kind(mode: int) -> str:
+    if stat.S_ISDIR(mode):
+        return "a folder"
+    if stat.S_ISFIFO(mode):
+        return "a named pipe (FIFO)"
+    if stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
+        return "a device"
+    if stat.S_ISSOCK(mode):
+        return "a socket"
+    return "a special file"
+
+
+_OPENERS = frozenset("[{")
+_CLOSERS = frozenset("]}")
+
+
+def _nesting_depth(text: str) -> int:
+    """An upper bound of the bracket nesting of TOML text (strings and comments included)."""
+    depth = deepest = 0
+    for ch in text:
+        if ch in _OPENERS:
+            depth += 1
+            if depth > deepest:
+                deepest = depth
+        elif ch in _CLOSERS and depth:
+            depth -= 1
+    return deepest
+
+
+def parse_toml(text: str, *, source: str,
+               error: type[ScenarioError] = ScenarioError) -> dict[str, Any]:
+    """Parse TOML text; every failure is one :class:`ScenarioError` (or ``error``) line.
+
+    Nesting deeper than :data:`MAX_NESTING` is refused before parsing (a recursive parser
+    would run out of stack); running out of memory, Python's integer-digit limit and
+    syntax errors are reported the same way.
+    """
+    if text.startswith(_BOM):
+        text = text[1:]
+    if _nesting_depth(text) > MAX_NESTING and _nesting_depth(_strip_strings(text)) > MAX_NESTING:
+        raise error(source, None, expected=f"arrays and tables nested at most {MAX_NESTING} deep")
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise error(source, None, expected=f"valid TOML ({exc})") from exc
+    except RecursionError as exc:
+        raise error(source, None, expected=f"arrays and tables nested at most {MAX_NESTING} deep") from exc
+    except MemoryError as exc:
+        raise error(source, None, expected="TOML that fits in memory") from exc
+    except ValueError as exc:  # tomllib lets int()'s digit limit (4300 digits) through
+        raise error(source, None, expected=f"TOML that Python can read ({exc})") from exc
+
+
+def _strip_strings(text: str) -> str:
+    """TOML text without its comments and quoted strings (for the nesting count)."""
+    return re.sub(r'"""[\s\S]*?"""|\'\'\'[\s\S]*?\'\'\'|"(?:[^"\\\n]|\\.)*"|\'[^\'\n]*\'|#[^\n]*',
+                  "", text)
+
 
 def load_scenario(path: str | os.PathLike[str]) -> Scenario:
     """Read, validate and type a scenario file.
@@ -50,7 +169,8 @@ def load_scenario(path: str | os.PathLike[str]) -> Scenario:
     Parameters
     ----------
     path : str or path-like
-        A TOML scenario file (UTF-8).
+        A TOML scenario file (UTF-8, a byte-order mark is accepted), a regular file of at
+        most :data:`MAX_FILE_BYTES`.
 
     Returns
     -------
@@ -61,18 +181,10 @@ def load_scenario(path: str | os.PathLike[str]) -> Scenario:
     ------
     ScenarioError
         On the first problem found (one-line message naming file, key path, value and what
-        was expected), including an unreadable file or invalid TOML.
+        was expected), including an unreadable or special file, or invalid TOML.
     """
     label = os.fspath(path)
-    try:
-        with open(label, "rb") as fh:
-            data = fh.read()
-    except OSError as exc:
-        raise ScenarioError(label, None, expected=f"a readable scenario file ({exc.strerror or exc})") from exc
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise ScenarioError(label, None, expected=f"UTF-8 text, as TOML requires ({exc.reason} at byte {exc.start})") from exc
+    text, data = read_text_file(label)
     scenario = parse_scenario(text, source=label)
     return replace(scenario, source_path=label, source_sha256=hashlib.sha256(data).hexdigest())
 
@@ -91,7 +203,8 @@ def parse_scenario(text_or_mapping: str | Mapping[str, Any], *, source: str = "<
     -------
     Scenario
         ``source_sha256`` is the SHA-256 of the UTF-8 text (None for a mapping);
-        ``source_path`` is None (set by :func:`load_scenario`).
+        ``source_path`` is None (set by :func:`load_scenario`). ``cautions`` lists the
+        implausible values (see :mod:`uq.scenario.envelope`) and the defaults taken.
 
     Raises
     ------
@@ -105,19 +218,18 @@ def parse_scenario(text_or_mapping: str | Mapping[str, Any], *, source: str = "<
     """
     sha = None
     if isinstance(text_or_mapping, str):
-        sha = hashlib.sha256(text_or_mapping.encode("utf-8")).hexdigest()
-        try:
-            doc = tomllib.loads(text_or_mapping)
-        except tomllib.TOMLDecodeError as exc:
-            raise ScenarioError(source, None, expected=f"valid TOML ({exc})") from exc
-        except ValueError as exc:  # tomllib lets int()'s digit limit (4300 digits) through
-            raise ScenarioError(source, None, expected=f"TOML that Python can read ({exc})") from exc
+        sha = hashlib.sha256(text_or_mapping.encode("utf-8", "surrogatepass")).hexdigest()
+        doc = parse_toml(text_or_mapping, source=source)
     elif isinstance(text_or_mapping, Mapping):
         doc = text_or_mapping
     else:
         raise TypeError(f"parse_scenario() takes TOML text or a mapping, not {type(text_or_mapping).__name__}")
-    scenario = _Reader(source).scenario(doc)
-    return replace(scenario, source_sha256=sha)
+    reader = _Reader(source)
+    try:
+        scenario = reader.scenario(doc)
+    except RecursionError as exc:  # a mapping nested beyond the stack (not from TOML text)
+        raise ScenarioError(source, None, expected=f"tables nested at most {MAX_NESTING} deep") from exc
+    return replace(scenario, source_sha256=sha, cautions=tuple(reader.cautions))
 
 
 # =============================================================================== ranges
@@ -239,6 +351,8 @@ class _Reader:
         self.file = file
         self.inputs: list[Marginal] = []
         self.fixed: set[str] = set()
+        self.kind: str | None = None  # the vehicle kind, once read (selects the envelope)
+        self.cautions: list[str] = []
 
     def fail(self, key: str | None, value: Any, expected: str, suggestion: str | None = None):
         raise ScenarioError(self.file, key, value, expected, suggestion)
@@ -291,6 +405,7 @@ class _Reader:
             self.fail(path, value, f"a finite number ({rng.what} in {rng.interval()})")
         if not rng.holds(x):
             self.fail(path, value, f"{rng.what} in {rng.interval()}")
+        self.check_envelope(path, value, x, x, x, x)
         self.fixed.add(path)
         return x
 
@@ -310,16 +425,70 @@ class _Reader:
             self.fail(path, value, f"a number, not nan ({rng.what} in {rng.interval()})")
 
     def distribution(self, value: Mapping[str, Any], path: str, rng: _Range) -> Marginal:
-        marginal = parse_distribution(value, name=path, unit=unit_from_key(path), file=self.file)
-        lo, hi = marginal.support
+        try:
+            # a parameter that overflows the float range is this key's problem, not a crash
+            with warnings.catch_warnings(), np.errstate(all="raise"):
+                warnings.simplefilter("error", RuntimeWarning)
+                marginal = parse_distribution(value, name=path, unit=unit_from_key(path),
+                                              file=self.file)
+                lo, hi = marginal.support
+                reach = self.reach(marginal)
+        except (OverflowError, FloatingPointError, ZeroDivisionError, RuntimeWarning) as exc:
+            self.fail(path, dict(value), "a distribution whose parameters and quantiles are "
+                      f"finite numbers ({rng.what}; {type(exc).__name__}: {exc})")
         if not rng.holds_support(lo, hi):
             fix = (f"narrow it to lie within {rng.interval()}" if math.isfinite(lo) and math.isfinite(hi)
                    else f"use {rng.suggestion()}")
             self.fail(path, dict(value),
                       f"{rng.what} in {rng.interval()}, but {marginal.describe()} has support "
                       f"[{_num(lo)}, {_num(hi)}] which leaves it; {fix}")
+        self.check_envelope(path, dict(value), *reach, shown=marginal.describe())
         self.inputs.append(marginal)
         return marginal
+
+    @staticmethod
+    def reach(m: Marginal) -> tuple[float, float, float, float]:
+        """(low, high) reach — the support, or the 1e-6 / 1-1e-6 quantiles where it is
+        unbounded — and the 1 % / 99 % quantiles of a distribution."""
+        lo, hi = m.support
+        tail = _envelope.TAIL_PROBABILITY
+        if not math.isfinite(lo):
+            lo = m.quantile(tail)
+        if not math.isfinite(hi):
+            hi = m.quantile(1.0 - tail)
+        q_lo, q_hi = (m.quantile(q) for q in _envelope.PLAUSIBLE_QUANTILES)
+        return float(lo), float(hi), float(q_lo), float(q_hi)
+
+    def check_envelope(self, path: str, value: Any, lo: float, hi: float, q_lo: float,
+                       q_hi: float, *, shown: str | None = None) -> None:
+        """Refuse a value the envelope calls impossible; note one it calls implausible.
+
+        ``lo``/``hi`` is the value's reach (a fixed value: the value itself), ``q_lo``/``q_hi``
+        the range checked against the plausible bounds.
+        """
+        row = _envelope.limit_for(self.kind or "", path)
+        if row is None:
+            return
+        plo, phi = row.possible
+        if math.isinf(lo) and math.isinf(hi) and lo == hi and hi > 0 and math.isinf(phi):
+            return  # a fixed "never"/"no limit"
+        if lo < plo or hi > phi:
+            unit = "" if row.unit == "-" else f" {row.unit}"
+            what = (f"a value in [{_num(plo)}, {_num(phi)}]{unit} for a {self.kind} "
+                    f"({row.why})")
+            if shown is not None:
+                beyond = lo if lo < plo else hi
+                what += (f", but {shown} reaches {beyond:.6g}{unit} with probability "
+                         f"{_envelope.TAIL_PROBABILITY:g}; narrow or bound the distribution")
+            self.fail(path, value, what)
+        alo, ahi = row.plausible
+        if q_lo < alo or q_hi > ahi:
+            unit = "" if row.unit == "-" else f" {row.unit}"
+            text = (f"{shown}, whose 1-99 % range is {q_lo:.4g} to {q_hi:.4g}{unit}"
+                    if shown is not None else f"{q_lo:.6g}{unit}")
+            self.cautions.append(
+                f"{self.file}: {path} = {text}: implausible for a {self.kind} (usual range "
+                f"{_num(alo)} to {_num(ahi)}{unit}: {row.why}); check the value")
 
     def integer(self, value: Any, path: str, *, minimum: int, what: str) -> int:
         if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, np.integer)):
@@ -366,7 +535,8 @@ class _Reader:
         close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
         self.fail(path, name, "the name of an uncertain input of this scenario", close[0] if close else None)
 
-    def below(self, a: Any, a_path: str, b: Any, b_path: str, *, blame: str, relation: str) -> None:
+    def below(self, a: Any, a_path: str, b: Any, b_path: str, *, blame: str, relation: str,
+              strict: bool = True) -> None:
         """Require a < b for every possible value (support-wise for distributions).
 
         ``blame`` is the path reported ("a" or "b" side); ``relation`` words the expectation.
@@ -374,7 +544,7 @@ class _Reader:
         a_hi = a.support[1] if isinstance(a, Marginal) else float(a)
         b_lo = b.support[0] if isinstance(b, Marginal) else float(b)
         both_fixed = not isinstance(a, Marginal) and not isinstance(b, Marginal)
-        if a_hi > b_lo or (a_hi == b_lo and both_fixed):
+        if a_hi > b_lo or (a_hi == b_lo and both_fixed and strict):
             if blame == "a":
                 key, value, other, bound = a_path, a, b, f"as small as {_num(b_lo)}"
             else:
@@ -402,6 +572,7 @@ class _Reader:
         vehicle_table = self.table(doc["vehicle"], "vehicle")
         kind = self.choice(vehicle_table.get("kind", MISSING), "vehicle.kind", VEHICLE_KINDS,
                            what="the vehicle kind, stated explicitly (never guessed from the keys)")
+        self.kind = kind
 
         parsed: dict[str, Any] = {}
         for key, value in doc.items():
@@ -442,6 +613,8 @@ class _Reader:
                                   "a glide angle and a dive band)")
             self.glider_policies(parsed["setpoint"], parsed["legs"])
         else:
+            self.propeller_windows(parsed["setpoint"], parsed["legs"])
+            self.battery_in_hull(parsed["vehicle"], parsed["battery"])
             for i, item in enumerate(doc["legs"]):
                 for key in ("flight_policy", "dives_per_surfacing", "payload_power_W",
                             "payload_duty_cycle"):
@@ -713,10 +886,26 @@ class _Reader:
             path = f"legs.{name}"
             out = self.read_fields(table, path, {"name": lambda r, v, p: v, **fields}, ("length_km",))
             leg = Leg(**out)
+            self.leg_water(leg, table, path)
             self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", leg.seabed_m, f"{path}.seabed_m",
                        blame="b", relation=f"a seabed deeper than {path}.ice_ceiling_m")
             legs.append(leg)
         return tuple(legs)
+
+    def leg_water(self, leg: Leg, table: Mapping[str, Any], path: str) -> None:
+        """No silent environment: under ice the temperature is required; elsewhere an absent
+        temperature or salinity takes the documented default (10 degC, 35) with a caution."""
+        under_ice = isinstance(leg.ice_ceiling_m, Marginal) or float(leg.ice_ceiling_m) > 0.0
+        if "temperature_C" not in table and under_ice:
+            self.fail(f"{path}.temperature_C", MISSING,
+                      "the water temperature of a leg under ice (no default: water under ice "
+                      "is near its freezing point, about -1.9 degC, not the open-water default)")
+        for key, default, unit in (("temperature_C", Leg.temperature_C, " degC"),
+                                   ("practical_salinity", Leg.practical_salinity, "")):
+            if key not in table:
+                self.cautions.append(
+                    f"{self.file}: {path}.{key} not given: the default {default:g}{unit} was "
+                    "used; state the leg's own value (it sets density and drag)")
 
     def glider_windows(self, setpoint: GliderSetpoint, legs: tuple[Leg, ...]) -> None:
         """Each leg must leave room to glide between the shallow and the deep limit."""
@@ -737,6 +926,46 @@ class _Reader:
             if policy in ("hold_speed", "efficient"):
                 self.fail("setpoint.horizontal_speed_m_s", MISSING,
                           f"a horizontal speed to hold ({where} = {policy!r} re-trims for it)")
+    def propeller_windows(self, setpoint: PropellerSetpoint, legs: tuple[Leg, ...]) -> None:
+        """The running depth must lie below each leg's ice ceiling and above its seabed."""
+        for leg in legs:
+            path = f"legs.{leg.name}"
+            own = getattr(leg, "depth_m", None)
+            depth, where = (own, f"{path}.depth_m") if own is not None else (setpoint.depth_m, "setpoint.depth_m")
+            self.below(depth, where, leg.seabed_m, f"{path}.seabed_m",
+                       blame="b", relation=f"a seabed at or below {where} (the "
+                       "vehicle runs at that depth)", strict=False)
+            self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", depth,
+                       where, blame="a", relation=f"an ice ceiling at or above "
+                       f"{where} (the vehicle runs at that depth)", strict=False)
+
+    def battery_in_hull(self, vehicle: PropellerVehicle, battery: Battery) -> None:
+        """The battery's energy per litre of hull must be one a pack can hold."""
+        hull = vehicle.drag
+        if not isinstance(hull, HullGeometry):
+            return
+
+        def ends(v: Value) -> tuple[float, float]:
+            return tuple(float(x) for x in v.support) if isinstance(v, Marginal) else (float(v), float(v))
+
+        (d_lo, d_hi), (l_lo, l_hi) = ends(hull.diameter_m), ends(hull.length_m)
+        (e_lo, e_hi) = ends(battery.nominal_energy_Wh)
+        litres_max = math.pi / 4.0 * d_hi**2 * l_hi * 1000.0
+        litres_min = math.pi / 4.0 * d_lo**2 * l_lo * 1000.0
+        low, high = _envelope.HULL_ENERGY_DENSITY_WH_PER_L
+        if not (math.isfinite(litres_max) and litres_min > 0):
+            return
+        if e_lo / litres_min > high:
+            self.fail("battery.nominal_energy_Wh", battery.nominal_energy_Wh,
+                      f"at most {high:g} Wh per litre of hull (lithium packs store up to about "
+                      f"700 Wh/L); the hull holds {litres_min:,.4g} L, so at most "
+                      f"{high * litres_min:,.4g} Wh")
+        if e_hi / litres_max < low:
+            self.cautions.append(
+                f"{self.file}: battery.nominal_energy_Wh = {e_hi:g}: implausible for a "
+                f"{litres_max:,.4g} L hull ({e_hi / litres_max:.3g} Wh per litre; packs hold "
+                f"100-700 Wh/L): was kWh written as Wh?")
+
     def recovery(self, value: Any) -> Recovery:
         table = self.table(value, "recovery")
         fields = {

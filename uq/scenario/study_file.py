@@ -44,7 +44,6 @@ import itertools
 import json
 import math
 import os
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -54,7 +53,7 @@ import numpy as np
 
 from uq.errors import InputError
 from uq.scenario.errors import MISSING, ScenarioError
-from uq.scenario.reader import parse_scenario
+from uq.scenario.reader import parse_scenario, parse_toml, read_text_file
 from uq.scenario.types import Scenario
 
 __all__ = [
@@ -163,16 +162,9 @@ def load_study(path: str | os.PathLike[str]) -> Study:
         A variant's scenario is invalid (names the variant and the scenario's problem).
     """
     label = os.fspath(path)
-    try:
-        data = Path(label).read_bytes()
-    except OSError as exc:
-        raise StudyFileError(label, None, expected=f"a readable study file ({exc.strerror or exc})") from exc
-    try:
-        doc = tomllib.loads(data.decode("utf-8"))
-    except UnicodeDecodeError as exc:
-        raise StudyFileError(label, None, expected=f"UTF-8 text ({exc.reason} at byte {exc.start})") from exc
-    except tomllib.TOMLDecodeError as exc:
-        raise StudyFileError(label, None, expected=f"valid TOML ({exc})") from exc
+    # the scenario reader's safe file reading: regular files of bounded size, BOM, nesting
+    text, _ = read_text_file(label, what="study file", error=StudyFileError)
+    doc = parse_toml(text, source=label, error=StudyFileError)
     return parse_study(doc, source=label, base_dir=Path(label).resolve().parent)
 
 
@@ -281,14 +273,11 @@ class _StudyReader:
         self.text(value, "study.scenario", "path of the base scenario file, relative to the study file")
         path = (self.base_dir / value) if not os.path.isabs(value) else Path(value)
         try:
-            data = path.read_bytes()
-        except OSError as exc:
-            self.fail("study.scenario", value,
-                      f"a readable scenario file ({exc.strerror or exc}: {path})")
-        try:
-            doc = tomllib.loads(data.decode("utf-8"))
-        except (UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-            self.fail("study.scenario", value, f"a scenario file of valid UTF-8 TOML ({exc})")
+            text, data = read_text_file(path)
+            doc = parse_toml(text, source=str(path))
+        except ScenarioError as exc:
+            self.fail("study.scenario", value, f"a readable scenario file of valid TOML "
+                      f"({exc.expected}: {path})")
         return str(path), doc, hashlib.sha256(data).hexdigest()
 
     def settings(self, head, base: Scenario) -> tuple[int, int, str, int]:

@@ -300,6 +300,8 @@ class Scenario:
     inputs: tuple["Marginal", ...] = ()  # every uncertain field, file order
     source_path: str | None = None
     source_sha256: str | None = None
+    # implausible values and defaults taken for absent fields, one sentence each
+    cautions: tuple[str, ...] = ()
 
     @property
     def input_names(self) -> tuple[str, ...]:

@@ -542,6 +542,9 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         text = str(w.message).split("\n")[0]
         if text not in cautions:
             cautions.append(text)
+            if issubclass(w.category, UserWarning):  # e.g. a physics fit's range: pass it on
+                # to the caller's warning handling too (the CLI prints one caution line)
+                warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     if sens is not None:
         cautions.extend(sens.notes)
     if settings.scheme == "sobol":

@@ -49,19 +49,12 @@ from __future__ import annotations
 
 from uq.errors import InputError
 
-import argparse
-import json
 import math
-import os
-import shutil
-import sys
-import tempfile
 import threading
 import time
 from collections.abc import Mapping
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any, Callable, Sequence
 
 import numpy as np
@@ -72,7 +65,7 @@ from uq import decisions, estimators
 from uq.studies.assess import package_versions
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, SumReducer, stream
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
-from uq.scenario import Scenario, ScenarioError
+from uq.scenario import Scenario
 from uq.scenario.study_file import (
     Study, StudySettingsError, Variant, _check_settings, load_study, override_label,
 )
@@ -86,8 +79,6 @@ __all__ = [
     "VariantResult",
     "StudyResult",
     "run_study",
-    "write_study",
-    "study_main",
 ]
 
 #: Rows of the plan (pooled over replicates) on which input rankings are computed.
@@ -462,192 +453,3 @@ def _summarise(variant: Variant, parts: list[dict], scheme: str, scenario: Scena
         mean_margin_Wh=_mean([q["margin"] for q in parts], scheme, conf),
         nominal_margin_Wh=float(base.outcome["margin_Wh"]), input_ranking=ranking,
         ranking_rows=int(margin.size))
-
-
-# =============================================================================== output
-_HTML = """<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8">
-<title>{{ study.name }} - transit-risk study</title>
-<style>
-body{font-family:system-ui,sans-serif;margin:1.5em;color:#222}
-table{border-collapse:collapse;font-size:0.85em}
-th,td{border:1px solid #ccc;padding:3px 6px;text-align:right;vertical-align:middle}
-th{background:#f3f3f3}td.l,th.l{text-align:left}
-.go{background:#dff3df}.no-go{background:#f8dcdc}.undecided{background:#fbf1d3}
-.bar{position:relative;width:180px;height:12px;background:#eee}
-.bar .ci{position:absolute;top:3px;height:6px;background:#7aa7d8}
-.bar .pt{position:absolute;top:0;width:2px;height:12px;background:#1b4f8a}
-.bar .req{position:absolute;top:-2px;width:1px;height:16px;background:#c00}
-small{color:#666}
-</style></head><body>
-<h1>Study: {{ study.name }}</h1>
-{% if study.description %}<p>{{ study.description }}</p>{% endif %}
-<p><small>Base scenario {{ study.scenario_path }} (SHA-256 {{ study.scenario_sha256[:12] }}...);
-{{ samples }} samples per variant, scheme {{ scheme }}{% if replicates > 1 %} ({{ replicates }} replicates){% endif %},
-seed {{ seed }}, block size {{ block_size }}. Every variant uses the same samples of the inputs
-it shares with the others (common random numbers), so differences between rows are
-differences of the configurations. Input ranking: {{ ranking_label }} over {{ ranking_rows }} samples.</small></p>
-<table>
-<tr><th class="l">variant</th>{% for f in fields %}<th>{{ f }}</th>{% endfor %}
-<th>P(success)</th><th>interval</th><th class="l">P(success) and requirement</th><th>verdict</th>
-<th>contingency [days]</th><th>mean margin [Wh]</th><th class="l">top input (Spearman)</th></tr>
-{% for r in rows %}<tr>
-<td class="l">{{ r.variant }}</td>{% for f in fields %}<td>{{ r[f] if r[f] is not none else "(base)" }}</td>{% endfor %}
-<td>{{ "%.4f"|format(r.p_success) }}</td>
-<td>{{ "%.4f"|format(r.p_success_low) }}&ndash;{{ "%.4f"|format(r.p_success_high) }}</td>
-<td class="l"><div class="bar" title="{{ r.p_success_method }}">
-<div class="ci" style="left:{{ (180*r.p_success_low)|round(1) }}px;width:{{ (180*(r.p_success_high-r.p_success_low))|round(1) }}px"></div>
-<div class="pt" style="left:{{ (180*r.p_success)|round(1) }}px"></div>
-<div class="req" style="left:{{ (180*r.required_probability)|round(1) }}px"></div></div></td>
-<td class="{{ r.verdict }}">{{ r.verdict }}</td>
-<td>{% if r.contingency_days is not none %}{{ "%.2f"|format(r.contingency_days) }}{% else %}n/a{% endif %}</td>
-<td>{{ "%.0f"|format(r.mean_margin_Wh) }}</td>
-<td class="l">{% if r.top_input %}{{ r.top_input }} ({{ "%+.2f"|format(r.top_input_spearman) }}){% else %}n/a{% endif %}</td>
-</tr>{% endfor %}
-</table>
-<p><small>Bars: P(success) (dark tick) with its {{ confidence_pct }} interval (blue) against the
-required probability (red line). Contingency: ship-time booking at the scenario's booking
-quantile of arrival time, less the nominal transit time.</small></p>
-</body></html>
-"""
-
-
-def _render_html(result: StudyResult) -> str:
-    import jinja2
-
-    env = jinja2.Environment(autoescape=True, undefined=jinja2.StrictUndefined)
-    rows = result.to_frame().astype(object).where(lambda f: f.notna(), None).to_dict("records")
-    conf = result.variants[0].verdict.confidence if result.variants else 0.95
-    return env.from_string(_HTML).render(
-        study=result.study, samples=result.samples, scheme=result.scheme,
-        replicates=result.replicates, seed=result.seed, block_size=result.block_size,
-        fields=list(result.study.fields), rows=rows, ranking_label=_RANKING_LABEL,
-        ranking_rows=result.variants[0].ranking_rows if result.variants else 0,
-        confidence_pct=f"{conf * 100:g} %")
-
-
-def write_study(result: StudyResult, out_dir: str | os.PathLike[str], *,
-                overwrite: bool = False) -> Path:
-    """Write ``study.csv``, ``study.json`` and ``index.html`` into ``out_dir`` atomically.
-
-    The files are written into a temporary folder beside ``out_dir`` and moved into place
-    with one rename, so a reader sees either no folder or a complete one.
-
-    Raises
-    ------
-    StudyOutputError
-        ``out_dir`` exists and ``overwrite`` is false, or it is not a folder.
-    """
-    out = Path(out_dir)
-    if out.exists() and not overwrite:
-        raise StudyOutputError(f"output folder {str(out)!r} exists: expected a new folder, or "
-                               "overwrite=True (--overwrite) to replace it")
-    if out.exists() and not out.is_dir():
-        raise StudyOutputError(f"output path {str(out)!r} is a file: expected a folder")
-    out.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
-    try:
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes it private; the report is not
-        result.to_frame().to_csv(tmp / "study.csv", index=False)
-        (tmp / "study.json").write_text(
-            json.dumps(_jsonable(result.to_dict()), indent=2, allow_nan=False) + "\n",
-            encoding="utf-8")
-        (tmp / "index.html").write_text(_render_html(result), encoding="utf-8")
-        if out.exists():
-            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=out.parent))
-            os.rename(out, old / "previous")
-            os.rename(tmp, out)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            os.rename(tmp, out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    return out
-
-
-# =============================================================================== CLI
-class _ArgumentError(Exception):
-    pass
-
-
-class _Parser(argparse.ArgumentParser):
-    def error(self, message):  # one line and exit code 2, decided by study_main
-        raise _ArgumentError(message)
-
-
-def _parser() -> argparse.ArgumentParser:
-    p = _Parser(prog="transit-risk study",
-                description="Run a batch study: every variant of a base scenario on shared samples.")
-    p.add_argument("studyfile", metavar="STUDYFILE", help="study file (TOML)")
-    p.add_argument("--samples", type=int, help="samples per variant (overrides the study file)")
-    p.add_argument("--seed", type=int, help="random seed (overrides the study file)")
-    p.add_argument("--out", help="output folder (default: reports/<study name>)")
-    p.add_argument("--overwrite", action="store_true", help="replace an existing output folder")
-    p.add_argument("--quiet", action="store_true", help="no progress bar and no summary")
-    where = p.add_mutually_exclusive_group()
-    where.add_argument("--workers", type=int, default=1, help="local worker processes (default 1)")
-    where.add_argument("--scheduler", metavar="ADDRESS", help="run on a running Dask scheduler")
-    where.add_argument("--local-cluster", type=int, metavar="N",
-                       help="start a loopback Dask cluster of N worker processes")
-    return p
-
-
-def study_main(argv: Sequence[str] | None = None) -> int:
-    """Command-line entry of ``transit-risk study``; returns the exit code.
-
-    0 on success; 2 with a one-line message on standard error for bad options, an invalid
-    study file, an existing output folder or a missing optional dependency.
-    """
-    from uq.sampling import backends
-
-    prog = "transit-risk study"
-    try:
-        args = _parser().parse_args(list(sys.argv[1:] if argv is None else argv))
-    except _ArgumentError as exc:
-        print(f"{prog}: error: {exc}", file=sys.stderr)
-        return 2
-    try:
-        study = load_study(args.studyfile)
-        samples, seed = _resolve(study, args.samples, args.seed)
-        out = Path(args.out) if args.out else Path("reports") / study.name
-        if out.exists() and not args.overwrite:
-            raise StudyOutputError(f"output folder {str(out)!r} exists: expected a new folder, "
-                                   "or --overwrite to replace it")
-        if args.workers < 1 or (args.local_cluster is not None and args.local_cluster < 1):
-            raise backends.BackendError(
-                f"worker count = {args.local_cluster if args.local_cluster is not None else args.workers}: "
-                "expected an integer >= 1")
-        if args.scheduler is not None or args.local_cluster is not None:
-            context = backends.dask_executor(args.scheduler, local_workers=args.local_cluster)
-        else:
-            context = backends.local_executor(args.workers)
-        bar = None
-        if not args.quiet:
-            from tqdm import tqdm
-
-            bar = tqdm(total=samples, unit="sample", desc=study.name, file=sys.stderr,
-                       leave=False)
-        with context as executor:
-            result = run_study(study, samples=samples, seed=seed, executor=executor,
-                               progress=(lambda rows: bar.update(rows - bar.n)) if bar else None)
-        if bar is not None:
-            bar.close()
-        written = write_study(result, out, overwrite=args.overwrite)
-    except (ScenarioError, StudySettingsError, StudyOutputError, backends.BackendError,
-            backends.DaskUnavailableError, OSError) as exc:
-        print(f"{prog}: error: {exc}".replace("\n", " "), file=sys.stderr)
-        return 2
-    if not args.quiet:
-        frame = result.to_frame()
-        cols = ["variant", "p_success", "p_success_low", "p_success_high", "verdict",
-                "contingency_days", "mean_margin_Wh", "top_input"]
-        with pd.option_context("display.width", 200, "display.max_columns", 20,
-                               "display.max_colwidth", 60):
-            print(frame[cols].to_string(index=False))
-        print(f"wrote {written / 'study.csv'}, study.json, index.html "
-              f"({len(result.variants)} variants, {result.samples} samples, seed {result.seed}, "
-              f"{result.elapsed_s:.1f} s)")
-    return 0

@@ -53,6 +53,8 @@ speed_m_s = 1.5
 name = "first"
 length_km = 50.0
 current_along_m_s = {dist = "normal", mean = 0.0, sd = 0.05}
+temperature_C = -1.5
+practical_salinity = 34.0
 ice_ceiling_m = 10.0
 seabed_m = 200.0
 
@@ -375,7 +377,7 @@ BAD = [
      r"setpoint\.bottom_depth_m = 1000\.0: expected a bottom depth deeper than setpoint\.top_depth_m"),
     ("glider-propeller-setpoint", GLIDER_BASE, "glide_angle_deg = 26.0", "glide_angle_deg = 26.0\nspeed_m_s = 0.3",
      r"setpoint\.speed_m_s = 0\.3: expected a key of \[setpoint\] \('speed_m_s' belongs to a propeller vehicle's \[setpoint\]\)"),
-    ("glider-no-window", GLIDER_BASE, "length_km = 500.0", "length_km = 500.0\nice_ceiling_m = 1200.0",
+    ("glider-no-window", GLIDER_BASE, "length_km = 500.0", "length_km = 500.0\ntemperature_C = -1.5\nice_ceiling_m = 1200.0",
      r"legs\.only\.ice_ceiling_m = 1200\.0: expected an ice ceiling shallower than setpoint\.bottom_depth_m"),
     ("polar-k-and-ar", GLIDER_BASE, "induced_drag_factor = 0.4", "induced_drag_factor = 0.4\naspect_ratio = 7.0",
      r"vehicle\.polar\.aspect_ratio = 7\.0: expected exactly one of induced_drag_factor or aspect_ratio, not both"),

@@ -17,7 +17,7 @@ from uq.scenario.study_file import (
     VariantScenarioError,
     load_study,
 )
-from uq.studies.batch import StudyOutputError, run_study, study_main, write_study
+from uq.studies.batch import run_study
 from uq.studies.sweeps import evaluate_on_shared_samples
 
 CONFIGS = Path(__file__).resolve().parents[3] / "configs"
@@ -93,15 +93,6 @@ def test_study_file_errors_are_one_line_and_name_key_value_and_expectation(
     with pytest.raises(error, match=match) as info:
         load_study(path)
     assert "\n" not in str(info.value)
-
-
-def test_cli_returns_2_with_one_line_on_a_bad_study_file(tmp_path, capsys):
-    path = _study(tmp_path, '[grid]\n"setpoint.sped_m_s" = [1.2]\n')
-    assert study_main([str(path), "--quiet", "--out", str(tmp_path / "o")]) == 2
-    err = capsys.readouterr().err.strip()
-    assert err.count("\n") == 0 and "did you mean 'speed_m_s'" in err
-    assert study_main([str(path), "--workers", "2", "--scheduler", "tcp://127.0.0.1:1"]) == 2
-    assert study_main([str(path), "--samples", "x"]) == 2
 
 
 # ----------------------------------------------------------------------------- expansion
@@ -234,33 +225,6 @@ def test_settings_are_checked():
 
 
 # ----------------------------------------------------------------------------- outputs
-def test_outputs_are_written_atomically_and_never_overwritten_by_default(tmp_path):
-    path = _study(tmp_path, """\
-        [[variants]]
-        name = "<b>base</b>"
-        [[variants]]
-        name = "fast"
-        overrides = {"setpoint.speed_m_s" = 1.6}
-        """, head='[study]\nname = "t"\nscenario = "base.toml"\nsamples = 256\nseed = 1\n'
-                  'scheme = "monte-carlo"\n')
-    result = run_study(load_study(path))
-    out = write_study(result, tmp_path / "report")
-    frame = pd.read_csv(out / "study.csv")
-    assert list(frame["variant"]) == ["<b>base</b>", "fast"]
-    record = json.loads((out / "study.json").read_text())
-    assert record["settings"] == {"samples": 256, "seed": 1, "scheme": "monte-carlo",
-                                  "replicates": 1, "block_size": 256}
-    html = (out / "index.html").read_text()
-    assert "&lt;b&gt;base&lt;/b&gt;" in html and "<b>base</b>" not in html  # autoescaped
-    assert "http" not in html  # self-contained: no link to fetch
-    with pytest.raises(StudyOutputError, match="exists"):
-        write_study(result, out)
-    (out / "stale.txt").write_text("old")
-    write_study(result, out, overwrite=True)
-    assert not (out / "stale.txt").exists() and (out / "index.html").exists()
-    assert sorted(p.name for p in tmp_path.iterdir() if p.name.startswith(".")) == []
-
-
 def test_missing_dask_names_the_optional_extra(monkeypatch):
     monkeypatch.setitem(sys.modules, "distributed", None)  # makes `import distributed` fail
     with pytest.raises(backends.DaskUnavailableError,
