@@ -28,7 +28,7 @@ KEYS = ("range_km", "success", "reaches_recovery", "margin_Wh", "duration_days",
 def demo():
     sc = load_scenario(DEMO)
     rng = np.random.default_rng(7)
-    u = rng.random((512, len(sc.inputs)))
+    u = rng.random((128, len(sc.inputs)))
     x = np.column_stack([m.ppf(u[:, i]) for i, m in enumerate(sc.inputs)])
     return sc, x
 
