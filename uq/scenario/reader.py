@@ -415,6 +415,13 @@ class _Reader:
         for i, test in enumerate(decision.tests):
             for name in test.inputs:
                 self.check_name(name, f"decision.tests[{i}].inputs")
+        for key in ("knowledge", "variability"):
+            for name in getattr(decision, key):
+                self.check_name(name, f"decision.{key}")
+        for name in decision.knowledge:
+            if name in decision.variability:
+                self.fail("decision.variability", name,
+                          "an input not also listed in decision.knowledge (an input has one nature)")
         name, description = parsed["scenario"]
         return Scenario(
             name=name,
@@ -677,6 +684,11 @@ class _Reader:
             "cost_of_failure": plain(MONEY),
             "cost_of_no_go": plain(MONEY),
             "tests": lambda r, v, p: r.tests(v, p),
+            "cost_of_reserve_breach": plain(MONEY),
+            "cost_of_late_arrival": plain(MONEY),
+            "knowledge": lambda r, v, p: r.name_list(v, p),
+            "variability": lambda r, v, p: r.name_list(v, p),
+            "required_credibility": plain(PROBABILITY),
         }
         return Decision(**self.read_fields(table, "decision", fields))
 

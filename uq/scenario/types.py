@@ -164,6 +164,16 @@ class Decision:
     cost_of_failure: float | None = None
     cost_of_no_go: float | None = None
     tests: tuple[TestCandidate, ...] = ()
+    #: net loss when a go ends with the vehicle at the recovery point but on its reserve, and
+    #: when it ends there after the duration limit; None = ``cost_of_failure``
+    cost_of_reserve_breach: float | None = None
+    cost_of_late_arrival: float | None = None
+    #: inputs declared knowledge (a test could pin them) or variability (vary by the day);
+    #: an input in neither list is knowledge when a test names it, variability otherwise
+    knowledge: tuple[str, ...] = ()
+    variability: tuple[str, ...] = ()
+    #: optional rule beside p*: go iff P(P(success | knowledge) >= p*) >= this
+    required_credibility: float | None = None
 
 
 @dataclass(frozen=True)

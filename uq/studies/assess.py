@@ -417,6 +417,7 @@ class Assessment:
     tests: decisions.TestRanking | None
     cautions: tuple[str, ...]
     timings_s: dict[str, float]
+    knowledge_band: decisions.KnowledgeBand | None = None
     versions: dict[str, str] = field(default_factory=dict)
     #: (samples, P(success) half-width) of each propagation size tried
     convergence: tuple[tuple[int, float], ...] = ()
@@ -549,14 +550,48 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
             currency=dec.currency, confidence=conf)
     success = out["success"]
     pinned = {}
-    voi_seed, rank_seed = seed.spawn(2)
+    voi_seed, rank_seed, band_seed = seed.spawn(3)
     for i, name in enumerate(prop.input_names):
         pinned[name] = decisions.pinned_input_probabilities(
             success, prop.inputs[:, i], confidence=conf, parameter_name=name,
             unit=scenario.inputs[i].unit)
-    tests = None
     notes: list[str] = []
+    band = _knowledge_band(scenario, prop, conf, seed=band_seed)
+    tests = _test_ranking(scenario, prop, sens, band, verdict, conf, seed=rank_seed)
+    return {"verdict": verdict, "failures": failures, "contingency": contingency,
+            "pinned": pinned, "tests": tests, "knowledge_band": band, "notes": notes}
+
+
+def _knowledge_band(scenario, prop: Propagation, conf: float, *, seed):
+    """P(success | knowledge inputs) over what is not yet known (None without inputs)."""
+    dec = scenario.decision
+    if not prop.input_names:
+        return None
+    natures = decisions.input_natures(
+        prop.input_names, knowledge=dec.knowledge, variability=dec.variability,
+        tested=[i for t in dec.tests for i in t.inputs])
+    return decisions.knowledge_band(
+        prop.outcomes["success"], {n: prop.inputs[:, i] for i, n in enumerate(prop.input_names)},
+        natures, required_probability=dec.required_probability,
+        required_credibility=dec.required_credibility, confidence=conf,
+        rng=np.random.default_rng(seed))
+
+
+def _class_costs(dec) -> dict[int, float]:
+    """Net loss of each failure class in the scenario's money (defaults: cost_of_failure)."""
+    oc = decisions.OutcomeClass
+    fallback = dec.cost_of_failure
+    return {oc.LOST: dec.cost_of_failure,
+            oc.RESERVE_BREACH: fallback if dec.cost_of_reserve_breach is None else dec.cost_of_reserve_breach,
+            oc.LATE: fallback if dec.cost_of_late_arrival is None else dec.cost_of_late_arrival}
+
+
+def _test_ranking(scenario, prop: Propagation, sens, band, verdict, conf, *, seed):
+    """Candidate tests valued in the scenario's money (or ranked by Sobol index without it)."""
+    dec = scenario.decision
     catalogue = list(dec.tests)
+    if not catalogue:
+        return None
     total = None
     if sens is not None:
         # a correlated group's total index is shared out among its members, so that a test
@@ -565,32 +600,26 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
         for g in sens.groups or ():
             for m in g:
                 total[m] = total[m] / len(g)
-    if catalogue:
-        has_values = None not in (dec.value_of_success, dec.cost_of_failure)
-        nb = None
-        if has_values:
-            # Value information for the rule the review applies - go iff P(success) >= p* -
-            # at the scenario's stakes: NB(go) - NB(no-go) = (V + C_f) (s - p*), so the
-            # break-even is p* itself and the "current choice" agrees with the verdict.
-            stakes = dec.value_of_success + dec.cost_of_failure
-            go = stakes * (success.astype(float) - dec.required_probability)
-            nb = np.column_stack([go, np.zeros_like(go)])
-            if dec.cost_of_no_go is not None:
-                implied = (dec.cost_of_failure - dec.cost_of_no_go) / stakes
-                if abs(implied - dec.required_probability) > 0.01:
-                    notes.append(
-                        f"The scenario's values and costs alone would put the break-even "
-                        f"P(success) at {implied:.1%}, not the required "
-                        f"{dec.required_probability:.1%}; the test ranking values information "
-                        f"for the review's rule (go iff P(success) >= "
-                        f"{dec.required_probability:.1%}) at stakes of {stakes:,.0f} "
-                        f"{dec.currency} (value of success + cost of failure).")
-        if nb is not None or total is not None:
-            tests = decisions.rank_tests(
-                catalogue, net_benefit=nb,
-                inputs={n: prop.inputs[:, i] for i, n in enumerate(prop.input_names)},
-                total_indices=total, currency=dec.currency, confidence=conf,
-                option_names=("go", "no-go") if nb is not None else None,
-                rng=np.random.default_rng(rank_seed))
-    return {"verdict": verdict, "failures": failures, "contingency": contingency,
-            "pinned": pinned, "tests": tests, "notes": notes}
+    nb = None
+    if None not in (dec.value_of_success, dec.cost_of_failure):
+        nb = decisions.money_net_benefit(
+            decisions.classify_outcomes(prop.outcomes), value_of_success=dec.value_of_success,
+            class_costs=_class_costs(dec), cost_of_no_go=dec.cost_of_no_go or 0.0)
+    if nb is None and total is None:
+        return None
+    band_kw = {}
+    if band is not None:
+        band_kw = {"band_values": band.sample_values, "knowledge_inputs": band.knowledge_inputs}
+    tests = decisions.rank_tests(
+        catalogue, net_benefit=nb,
+        inputs={n: prop.inputs[:, i] for i, n in enumerate(prop.input_names)},
+        total_indices=total, currency=dec.currency, confidence=conf,
+        success=prop.outcomes["success"], required_probability=dec.required_probability,
+        rng=np.random.default_rng(seed), **band_kw)
+    if nb is not None:
+        note = decisions.decision_disagreement(
+            tests.expected_net_benefit, nb.option_names, verdict.verdict,
+            dec.required_probability, dec.currency)
+        if note:
+            tests = dataclasses.replace(tests, sentence=f"{tests.sentence} {note}")
+    return tests
