@@ -322,8 +322,10 @@ def _report(args, assessment, out: Path, console: _Console, **extra) -> Path:
 
 
 def _finish(console: _Console, assessment, folder: Path) -> None:
-    console.result(assessment.verdict.sentence)
     console.result(f"Report: {folder / 'index.html'}")
+    band = getattr(assessment, "knowledge_band", None)
+    # the last line: the verdict, then how sure it is over what we don't yet know
+    console.result(assessment.verdict.sentence + (f" {band.sentence}" if band is not None else ""))
 
 
 # =============================================================================== commands

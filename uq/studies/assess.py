@@ -415,6 +415,8 @@ class Assessment:
     cautions: tuple[str, ...]
     timings_s: dict[str, float]
     knowledge_band: decisions.KnowledgeBand | None = None
+    #: smallest change of each lever that gives GO (None when not computed)
+    go_requirements: tuple[Any, ...] | None = None
     versions: dict[str, str] = field(default_factory=dict)
     #: (samples, P(success) half-width) of each propagation size tried
     convergence: tuple[tuple[int, float], ...] = ()
