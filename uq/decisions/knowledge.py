@@ -64,7 +64,8 @@ def input_natures(input_names: Sequence[str], *, knowledge: Sequence[str] = (),
     ----------
     input_names : sequence of str
     knowledge, variability : sequence of str
-        Inputs the scenario declares of each nature (disjoint).
+        Inputs the scenario declares of each nature (disjoint); names that are not uncertain
+        inputs here (fixed in this variant) are ignored.
     tested : sequence of str
         Inputs named by any candidate test.
 
@@ -75,9 +76,6 @@ def input_natures(input_names: Sequence[str], *, knowledge: Sequence[str] = (),
     both = sorted(set(knowledge) & set(variability))
     if both:
         raise DecisionInputError(f"inputs {both} are declared both knowledge and variability")
-    unknown = sorted((set(knowledge) | set(variability)) - set(input_names))
-    if unknown:
-        raise DecisionInputError(f"inputs {unknown} have a declared nature but are not uncertain inputs")
     out = {}
     for name in input_names:
         if name in knowledge:

@@ -148,6 +148,35 @@ def _tie_key(amount: float, currency: str) -> float:
     return float(np.round(amount)) if real else float(amount)
 
 
+def _score_test(tc, child, *, nb, names, inputs, currency, n_bootstrap, rule, band_values,
+                knowledge, method, n_knots, degree, confidence):
+    """Money value, p*-rule flip probability and band after of one test, on one simulated result."""
+    n = nb.shape[0]
+    params = np.column_stack([np.asarray(inputs[i], dtype=float) for i in tc.inputs])
+    if params.shape[0] != n:
+        raise ShapeMismatchError(f"inputs for test {tc.name!r} have {params.shape[0]} rows, net_benefit {n}")
+    r = float(tc.residual_fraction)
+    t = _scores_for_test(params, r, child) if r < 1.0 else None
+    v = _regression_voi(nb, params, residual_fraction=r, method=method, n_knots=n_knots,
+                        degree=degree, confidence=confidence, parameter_names=tc.inputs, scores=t,
+                        n_bootstrap=n_bootstrap, currency=currency, option_names=names, rng=child)
+    flip = flip_lo = flip_hi = None
+    if rule is not None:
+        # the review's rule before and after the test: go iff E[success | result] >= p*
+        s, p_star = rule
+        go_now = bool(s.mean() >= p_star)
+        go_after = go_now if t is None else success_given(s, t) >= p_star
+        flip = float(np.mean(go_after != go_now))
+        lo, hi = _wilson(flip * n, n, confidence)
+        flip_lo, flip_hi = float(lo), float(hi)
+    after = None
+    if band_values is not None:
+        cols = [j for j, name in enumerate(tc.inputs) if name in knowledge]
+        after = band_after_test(band_values, None if t is None or not cols else t[:, cols],
+                                method=method, n_knots=n_knots, degree=degree)
+    return tc, v, flip, flip_lo, flip_hi, after
+
+
 def rank_tests(
     tests: Sequence[TestCandidate],
     *,
@@ -220,39 +249,21 @@ def rank_tests(
     nb = _as_net_benefit(net_benefit)
     n = nb.shape[0]
     names = _option_names(option_names, nb.shape[1], net_benefit)
-    rule_go = None
+    rule = None
     if success is not None and required_probability is not None:
         s = np.asarray(success, dtype=bool)
         if s.shape != (n,):
             raise ShapeMismatchError(f"success has shape {s.shape}: expected ({n},) to match net_benefit")
-        p_star = float(required_probability)
-        rule_go = bool(s.mean() >= p_star)
+        rule = (s, float(required_probability))
     knowledge = set(knowledge_inputs)
     children = np.random.default_rng(rng).spawn(len(tests))
-    scored = []
-    for tc, child in zip(tests, children):
-        params = np.column_stack([np.asarray(inputs[i], dtype=float) for i in tc.inputs])
-        if params.shape[0] != n:
-            raise ShapeMismatchError(f"inputs for test {tc.name!r} have {params.shape[0]} rows, net_benefit {n}")
-        r = float(tc.residual_fraction)
-        t = _scores_for_test(params, r, child) if r < 1.0 else None
-        common = dict(residual_fraction=r, method=method, n_knots=n_knots, degree=degree,
-                      confidence=confidence, parameter_names=tc.inputs, scores=t)
-        v = _regression_voi(nb, params, n_bootstrap=n_bootstrap, currency=currency,
-                            option_names=names, rng=child, **common)
-        flip = flip_lo = flip_hi = None
-        if rule_go is not None:
-            # the review's rule after the test: go iff E[success | result] >= p*
-            after_go = (rule_go if t is None else success_given(s, t) >= p_star)
-            flip = float(np.mean(after_go != rule_go))
-            lo, hi = _wilson(flip * n, n, confidence)
-            flip_lo, flip_hi = float(lo), float(hi)
-        after = None
-        if band_values is not None:
-            cols = [j for j, name in enumerate(tc.inputs) if name in knowledge]
-            after = band_after_test(band_values, None if t is None or not cols else t[:, cols],
-                                    method=method, n_knots=n_knots, degree=degree)
-        scored.append((tc, v, flip, flip_lo, flip_hi, after))
+    options = dict(method=method, n_knots=n_knots, degree=degree, confidence=confidence)
+    scored = [
+        _score_test(tc, child, nb=nb, names=names, inputs=inputs, currency=currency,
+                    n_bootstrap=n_bootstrap, rule=rule, band_values=band_values,
+                    knowledge=knowledge, **options)
+        for tc, child in zip(tests, children)
+    ]
 
     def key(item):
         tc, v, flip, _, _, after = item
@@ -294,10 +305,16 @@ def _ranking_sentence(rows, current, currency, confidence, fund_none) -> str:
             f"Fund '{best.name}' first: its {best.value_kind} is {worth(best)} per decision against "
             f"a cost of {format_money(best.cost, currency)}, a net value of "
             f"{format_money(best.net_value_money, currency)}.")
+    elif max(r.value_money for r in rows) == 0.0:
+        text = (
+            f"Fund none and decide now (the money favours '{current}'): no candidate test's "
+            f"result would change that decision (every test's value of information is "
+            f"{format_money(0.0, currency)}), so none is worth its cost.")
     else:
         top = max(rows, key=lambda r: r.value_money)
         text = (
-            f"Fund none and decide now ('{current}'): no candidate test is worth its cost; the "
+            f"Fund none and decide now (the money favours '{current}'): no candidate test is "
+            f"worth its cost; the "
             f"most valuable, '{top.name}', is worth {worth(top)} per decision against a cost of "
             f"{format_money(top.cost, currency)}.")
     flips = [r for r in rows if r.flip_probability is not None]

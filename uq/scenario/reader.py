@@ -417,7 +417,8 @@ class _Reader:
                 self.check_name(name, f"decision.tests[{i}].inputs")
         for key in ("knowledge", "variability"):
             for name in getattr(decision, key):
-                self.check_name(name, f"decision.{key}")
+                if name not in self.fixed:  # a fixed number has no nature: ignored (a variant may fix it)
+                    self.check_name(name, f"decision.{key}")
         for name in decision.knowledge:
             if name in decision.variability:
                 self.fail("decision.variability", name,

@@ -151,7 +151,7 @@ def test_fund_none_when_no_test_can_pay():
     # success, x2 does not), never to rounding noise
     assert [r.name for r in res.rows] == ["strong", "weak"]
     assert res.rows[0].flip_probability > 0.05 > res.rows[1].flip_probability
-    assert res.sentence.startswith("Fund none and decide now ('go')")
+    assert res.sentence.startswith("Fund none and decide now (the money favours 'go')")
     assert "0 EUR" in res.sentence and "--" not in res.sentence and "e-" not in res.sentence
 
 

@@ -7,7 +7,8 @@ import pytest
 from uq import decisions
 from uq.scenario import load_scenario
 from uq.simulate import ScenarioModel
-from uq.studies.assess import _class_costs, _settings, input_model_of, propagate
+from uq.studies.assess import _settings, input_model_of, propagate
+from uq.studies.decide import class_costs as _class_costs
 
 from pathlib import Path
 
