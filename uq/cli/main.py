@@ -330,6 +330,9 @@ def _report(args, assessment, out: Path, console: _Console, **extra) -> Path:
 
 
 def _finish(console: _Console, assessment, folder: Path) -> None:
+    table = getattr(assessment.propagation, "outcome_table", None)
+    if table is not None:
+        console.result(table.sentence())
     console.result(f"Report: {folder / 'index.html'}")
     band = getattr(assessment, "knowledge_band", None)
     # the last line: the verdict, then how sure it is over what we don't yet know

@@ -32,12 +32,19 @@ def knowledge_band_of(scenario, prop, conf: float, *, seed):
 
 
 def class_costs(dec) -> dict[int, float]:
-    """Net loss of each failure class in the scenario's money (defaults: cost_of_failure)."""
+    """Net loss of each failure class in the scenario's money.
+
+    A lost vehicle costs ``cost_of_failure``; a reserve breach and a late arrival cost their
+    own keys when given; every other failure class (and those two when not given) is priced
+    at ``cost_of_failure``.
+    """
     oc = decisions.OutcomeClass
-    fallback = dec.cost_of_failure
-    return {oc.LOST: dec.cost_of_failure,
-            oc.RESERVE_BREACH: fallback if dec.cost_of_reserve_breach is None else dec.cost_of_reserve_breach,
-            oc.LATE: fallback if dec.cost_of_late_arrival is None else dec.cost_of_late_arrival}
+    out = {int(c): dec.cost_of_failure for c in oc if c != oc.SUCCESS}
+    if dec.cost_of_reserve_breach is not None:
+        out[int(oc.RESERVE_BREACH)] = dec.cost_of_reserve_breach
+    if dec.cost_of_late_arrival is not None:
+        out[int(oc.LATE)] = dec.cost_of_late_arrival
+    return out
 
 
 def rank_scenario_tests(scenario, prop, sens, band, verdict, conf, *, seed):
