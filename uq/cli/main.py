@@ -135,6 +135,14 @@ def build_parser() -> argparse.ArgumentParser:
                                    "under-ice demo) and write the report folder.")
     p.add_argument("scenario", nargs="?", metavar="SCENARIO",
                    help=f"scenario file (TOML); default: the bundled demo {DEFAULT_DEMO}")
+    levers = p.add_mutually_exclusive_group()
+    levers.add_argument("--go-requirements", dest="go_requirements", action="store_const",
+                        const="always", default="unless-go",
+                        help="find the battery energy, setpoint and reserve that give GO even "
+                             "when the verdict is GO (the margin); by default only for NO-GO "
+                             "and UNDECIDED")
+    levers.add_argument("--no-go-requirements", dest="go_requirements", action="store_const",
+                        const="never", help="skip the search for what would make it GO")
     p.set_defaults(func=_cmd_assess)
 
     p = sub.add_parser("check", parents=[output],
@@ -235,11 +243,13 @@ def _report(args, assessment, out: Path, console: Console, **extra) -> Path:
 
 
 def _finish(console: Console, assessment, folder: Path) -> None:
-    console.result(assessment.verdict.sentence)
     table = getattr(assessment.propagation, "outcome_table", None)
     if table is not None:
         console.result(table.sentence())
     console.result(f"Report: {folder / 'index.html'}")
+    band = getattr(assessment, "knowledge_band", None)
+    # the last line: the verdict, then how sure it is over what we don't yet know
+    console.result(assessment.verdict.sentence + (f" {band.sentence}" if band is not None else ""))
 
 
 # =============================================================================== commands
@@ -251,6 +261,13 @@ def _cmd_assess(args, console: Console) -> int:
         scenario = _load(args.scenario)
     out = _out_dir(args, scenario.name, console)
     assessment = _assess(args, scenario, console)
+    mode = getattr(args, "go_requirements", "never")
+    if mode == "always" or (mode == "unless-go" and assessment.verdict.verdict != "go"):
+        from uq.studies.requirements import with_go_requirements
+
+        console.stage("what would make it GO", 0, 1)
+        assessment = with_go_requirements(assessment)
+        console.stage("what would make it GO", 1, 1)
     folder = _report(args, assessment, out, console)
     _finish(console, assessment, folder)
     return 0

@@ -33,25 +33,31 @@ from .contingency import (
     ship_time_contingency,
 )
 from .flight import PilotActionRow, PilotActions, pilot_actions
+from .knowledge import (
+    KNOWLEDGE,
+    VARIABILITY,
+    BandAfter,
+    KnowledgeBand,
+    band_after_test,
+    input_natures,
+    knowledge_band,
+)
+from .outcomes import OUTCOME_CLASS_NAMES, OutcomeClass, classify_outcomes
+from .pinned import PinnedInputProbabilities, PinnedRow, pinned_input_probabilities
+from .ranking import SOBOL_BASIS, VOI_BASIS, TestRanking, TestRankingRow, decision_disagreement, rank_tests
 from .value_of_information import (
-    SOBOL_BASIS,
-    VOI_BASIS,
     FlipProbability,
     NetBenefit,
-    PinnedInputProbabilities,
-    PinnedRow,
-    TestCandidate,
-    TestRanking,
-    TestRankingRow,
     ValueOfInformation,
     decision_flip_probability,
     evpi,
     evppi_regression,
     evsi_regression,
     go_no_go_net_benefit,
-    pinned_input_probabilities,
-    rank_tests,
+    money_net_benefit,
 )
+from uq.scenario.types import TestCandidate
+from ._common import format_money, format_money_interval
 from .verdict import Verdict, go_no_go, samples_to_settle
 
 __all__ = [
@@ -92,6 +98,22 @@ __all__ = [
     "VOI_BASIS",
     "SOBOL_BASIS",
     "go_no_go_net_benefit",
+    "money_net_benefit",
+    "decision_disagreement",
+    "format_money",
+    "format_money_interval",
+    # outcome classes
+    "OutcomeClass",
+    "OUTCOME_CLASS_NAMES",
+    "classify_outcomes",
+    # knowledge band
+    "KNOWLEDGE",
+    "VARIABILITY",
+    "input_natures",
+    "KnowledgeBand",
+    "BandAfter",
+    "knowledge_band",
+    "band_after_test",
     "evpi",
     "evppi_regression",
     "evsi_regression",

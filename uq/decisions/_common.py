@@ -24,6 +24,8 @@ __all__ = [
     "OutOfRangeError",
     "UnknownCodeError",
     "EmptySampleError",
+    "format_money",
+    "format_money_interval",
 ]
 
 
@@ -210,3 +212,43 @@ def _fmt_money(x: float | None) -> str:
     if abs(x) >= 100 or x == 0:
         return f"{x:,.0f}"
     return f"{x:.3g}"
+
+
+def _is_currency_code(unit: str) -> bool:
+    return len(unit) == 3 and unit.isalpha() and unit.isupper()
+
+
+def format_money(x: float | None, currency: str = "") -> str:
+    """An amount as shown to a user, with its unit.
+
+    In a real currency (an ISO 4217 code such as ``"EUR"``) amounts are shown to the whole
+    unit with thousands separators; a non-zero amount that would round to 0 prints as
+    ``"< 1 EUR"`` (``"> -1 EUR"`` below zero), never as a run of rounding noise. In abstract
+    net-benefit units three significant figures are kept below 100.
+
+    Parameters
+    ----------
+    x : float or None
+        Amount [currency]; None prints "n/a".
+    currency : str
+        ISO 4217 code or a unit name; "" for a bare number.
+    """
+    unit = f" {currency}" if currency else ""
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    if _is_currency_code(currency):
+        if x != 0 and abs(x) < 0.5:
+            return f"< 1{unit}" if x > 0 else f"> -1{unit}"
+        text = f"{x:,.0f}"
+        return ("0" if text in ("-0", "0") else text) + unit
+    return _fmt_money(x) + unit
+
+
+def format_money_interval(low: float | None, high: float | None, currency: str = "") -> str:
+    """An interval of amounts as ``"a to b EUR"`` (no double minus, one unit at the end)."""
+    def bare(x):
+        text = format_money(x, currency)
+        return text[: -len(currency) - 1] if currency and text.endswith(f" {currency}") else text
+
+    unit = f" {currency}" if currency else ""
+    return f"{bare(low)} to {bare(high)}{unit}"

@@ -102,6 +102,22 @@ class Formatter:
         text = f"{lo}\u2013{hi}"
         return f"{text} {unit}".rstrip() if unit else text
 
+    def money(self, x: Any, currency: str = "") -> str:
+        """An amount by the decisions' display rule ("< 1 EUR" for tiny amounts)."""
+        from uq.decisions import format_money
+
+        v = finite_or_none(x)
+        return self._dash() if v is None else format_money(v, currency)
+
+    def money_interval(self, low: Any, high: Any, currency: str = "") -> str:
+        """``a to b EUR`` (no double minus)."""
+        from uq.decisions import format_money_interval
+
+        lo, hi = finite_or_none(low), finite_or_none(high)
+        if lo is None or hi is None:
+            return self._dash()
+        return format_money_interval(lo, hi, currency)
+
     def pct_interval(self, low: Any, high: Any) -> str:
         """``low–high %`` with a common number of decimals."""
         lo, hi = finite_or_none(low), finite_or_none(high)

@@ -23,6 +23,7 @@ __all__ = [
     "contingency_figure",
     "sweep_figure",
     "glide_polar_figure",
+    "knowledge_band_figure",
 ]
 
 _DPI = 110
@@ -181,4 +182,19 @@ def glide_polar_figure(polar, *, operating_u: float, operating_w: float,
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8)
     fig.tight_layout()
+    return fig
+
+
+def knowledge_band_figure(band):
+    """Histogram of P(success | knowledge inputs) with p* and the band's 5/50/95 % points."""
+    fig, ax = plt.subplots(figsize=(6.4, 3.0))
+    values = np.asarray(band.sample_values, dtype=float)
+    ax.hist(100.0 * values, bins=np.linspace(0.0, 100.0, 51), color=_BLUE, alpha=0.8)
+    ax.axvline(100.0 * band.required_probability, color=_RED, ls="--", label="required P(success)")
+    for q, v in zip(band.quantiles, band.values):
+        ax.axvline(100.0 * v, color=_GREY, lw=1.0)
+    ax.set_xlabel("P(success | knowledge inputs) [%]")
+    ax.set_ylabel("samples")
+    ax.set_title(f"Credibility of reaching the requirement: {100.0 * band.credibility:.1f} %")
+    ax.legend(loc="upper left", fontsize=8)
     return fig

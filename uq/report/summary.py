@@ -112,7 +112,9 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         t = a.tests.to_dict()
         tests = {"basis": t.get("ranking_basis"), "currency": t.get("currency"),
                  "current_option": t.get("current_option"), "sentence": t.get("sentence"),
-                 "rows": t.get("rows", [])}
+                 "expected_net_benefit": t.get("expected_net_benefit"),
+                 "fund_none": t.get("fund_none"), "rows": t.get("rows", [])}
+    band = getattr(a, "knowledge_band", None)
     reached = int(prop.duration_quantiles[0].n) if prop.duration_quantiles else 0
     out = {
         "schema_version": SCHEMA_VERSION,
@@ -147,6 +149,9 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "sensitivity_indices": indices,
         "surrogate": pce,
         "test_ranking": tests,
+        "knowledge_band": band.to_dict() if band is not None else None,
+        "go_requirements": ([r.to_dict() for r in a.go_requirements]
+                            if getattr(a, "go_requirements", None) is not None else None),
         "failure_modes": a.failures.to_dict(),
         **_outcome_keys(prop),
         "pinned_inputs": {k: v.to_dict() for k, v in a.pinned.items()},

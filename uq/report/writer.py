@@ -238,6 +238,9 @@ def _make_figures(a, figdir: Path, *, sweep_summary) -> dict[str, str]:
             operating_w=op.vertical_speed if op.feasible else float("nan"),
             glide_angle_deg=op.glide_angle_deg, net_buoyancy_N=op.net_buoyancy_N),
             figdir, "glide_polar"))
+    if getattr(a, "knowledge_band", None) is not None:
+        images["knowledge_band"] = _b64(fig_mod.save_figure(
+            fig_mod.knowledge_band_figure(a.knowledge_band), figdir, "knowledge_band"))
     return images
 
 

@@ -42,7 +42,7 @@ from uq.scenario.types import (
     Analysis, Battery, CapacityCurve, Decision, DragCoefficient, EfficiencyCurve, Fouling,
     GliderPolar, GliderSetpoint, GliderVehicle, Hardware, HullGeometry, Leg, Limits,
     PropellerSetpoint, PropellerVehicle, RankCorrelation, Recovery, Scenario, Subsystem,
-    TestCandidate, UnderIce,
+    TestCandidate, UnderIce, Value,
 )
 
 __all__ = ["load_scenario", "parse_scenario", "read_text_file", "parse_toml", "MAX_FILE_BYTES",
@@ -634,6 +634,14 @@ class _Reader:
         for i, test in enumerate(decision.tests):
             for name in test.inputs:
                 self.check_name(name, f"decision.tests[{i}].inputs")
+        for key in ("knowledge", "variability"):
+            for name in getattr(decision, key):
+                if name not in self.fixed:  # a fixed number has no nature: ignored (a variant may fix it)
+                    self.check_name(name, f"decision.{key}")
+        for name in decision.knowledge:
+            if name in decision.variability:
+                self.fail("decision.variability", name,
+                          "an input not also listed in decision.knowledge (an input has one nature)")
         name, description = parsed["scenario"]
         return Scenario(
             name=name,
@@ -1072,6 +1080,11 @@ class _Reader:
             "deployment_date": lambda r, v, p: r.date(v, p),
             "recovery_window": lambda r, v, p: r.quantile_pair(v, p),
             "ship_transit_days": plain(SHIP_DAYS),
+            "cost_of_reserve_breach": plain(MONEY),
+            "cost_of_late_arrival": plain(MONEY),
+            "knowledge": lambda r, v, p: r.name_list(v, p),
+            "variability": lambda r, v, p: r.name_list(v, p),
+            "required_credibility": plain(PROBABILITY),
         }
         out = self.read_fields(table, "decision", fields)
         if out.get("ship_booking") == "recovery_window" and "deployment_date" not in out:

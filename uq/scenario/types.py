@@ -262,6 +262,16 @@ class Decision:
     deployment_date: datetime.date | None = None
     recovery_window: tuple[float, float] = (0.05, 0.95)  # arrival quantiles bounding the window
     ship_transit_days: float = 0.0  # the ship's own passage to and from the recovery point
+    #: net loss when a go ends with the vehicle at the recovery point but on its reserve, and
+    #: when it ends there after the duration limit; None = ``cost_of_failure``
+    cost_of_reserve_breach: float | None = None
+    cost_of_late_arrival: float | None = None
+    #: inputs declared knowledge (a test could pin them) or variability (vary by the day);
+    #: an input in neither list is knowledge when a test names it, variability otherwise
+    knowledge: tuple[str, ...] = ()
+    variability: tuple[str, ...] = ()
+    #: optional rule beside p*: go iff P(P(success | knowledge) >= p*) >= this
+    required_credibility: float | None = None
 
 
 @dataclass(frozen=True)

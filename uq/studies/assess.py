@@ -38,6 +38,7 @@ from uq.sampling.inputs import InputModel
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
 from uq.scenario import Scenario
 from uq.simulate import FAILURE_MODE_NAMES, NominalResult, Outcomes, ScenarioModel, nominal
+from uq.studies.decide import knowledge_band_of, rank_scenario_tests
 
 __all__ = [
     "OUTPUT_KEYS",
@@ -420,6 +421,9 @@ class Assessment:
     tests: decisions.TestRanking | None
     cautions: tuple[str, ...]
     timings_s: dict[str, float]
+    knowledge_band: decisions.KnowledgeBand | None = None
+    #: smallest change of each lever that gives GO (None when not computed)
+    go_requirements: tuple[Any, ...] | None = None
     versions: dict[str, str] = field(default_factory=dict)
     #: (samples, P(success) half-width) of each propagation size tried
     convergence: tuple[tuple[int, float], ...] = ()
@@ -594,52 +598,17 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
             currency=dec.currency, confidence=conf)
     success = out["success"]
     pinned = {}
-    voi_seed, rank_seed = seed.spawn(2)
+    voi_seed, rank_seed, band_seed = seed.spawn(3)
     for i, name in enumerate(prop.input_names):
         pinned[name] = decisions.pinned_input_probabilities(
             success, prop.inputs[:, i], confidence=conf, parameter_name=name,
             unit=scenario.inputs[i].unit)
-    tests = None
     notes: list[str] = []
-    catalogue = list(dec.tests)
-    total = None
-    if sens is not None:
-        # a correlated group's total index is shared out among its members, so that a test
-        # pinning the whole group is credited with it once (the fallback ranking adds them)
-        total = sens.total_index("failure")
-        for g in sens.groups or ():
-            for m in g:
-                total[m] = total[m] / len(g)
-    if catalogue:
-        has_values = None not in (dec.value_of_success, dec.cost_of_failure)
-        nb = None
-        if has_values:
-            # Value information for the rule the review applies - go iff P(success) >= p* -
-            # at the scenario's stakes: NB(go) - NB(no-go) = (V + C_f) (s - p*), so the
-            # break-even is p* itself and the "current choice" agrees with the verdict.
-            stakes = dec.value_of_success + dec.cost_of_failure
-            go = stakes * (success.astype(float) - dec.required_probability)
-            nb = np.column_stack([go, np.zeros_like(go)])
-            if dec.cost_of_no_go is not None:
-                implied = (dec.cost_of_failure - dec.cost_of_no_go) / stakes
-                if abs(implied - dec.required_probability) > 0.01:
-                    notes.append(
-                        f"The scenario's values and costs alone would put the break-even "
-                        f"P(success) at {implied:.1%}, not the required "
-                        f"{dec.required_probability:.1%}; the test ranking values information "
-                        f"for the review's rule (go iff P(success) >= "
-                        f"{dec.required_probability:.1%}) at stakes of {stakes:,.0f} "
-                        f"{dec.currency} (value of success + cost of failure).")
-        if nb is not None or total is not None:
-            tests = decisions.rank_tests(
-                catalogue, net_benefit=nb,
-                inputs={n: prop.inputs[:, i] for i, n in enumerate(prop.input_names)},
-                total_indices=total, currency=dec.currency, confidence=conf,
-                option_names=("go", "no-go") if nb is not None else None,
-                rng=np.random.default_rng(rank_seed))
+    band = knowledge_band_of(scenario, prop, conf, seed=band_seed)
+    tests = rank_scenario_tests(scenario, prop, sens, band, verdict, conf, seed=rank_seed)
     flight = None
     if scenario.vehicle.kind == "glider":
         flight = decisions.pilot_actions(out["flight_events"], out["surfacings"], confidence=conf)
     return {"verdict": verdict, "failures": failures, "contingency": contingency,
-            "recovery": recovery, "flight": flight,
-            "pinned": pinned, "tests": tests, "notes": notes}
+            "recovery": recovery, "flight": flight, "pinned": pinned, "tests": tests,
+            "knowledge_band": band, "notes": notes}

@@ -55,6 +55,9 @@ def test_assess_default_demo_writes_the_report(tmp_path, capsys, monkeypatch):
     assert summary["verdict"] in ("go", "no-go", "undecided")
     # stdout: the verdict sentence and where the report is
     assert summary["verdict_sentence"] in captured.out
+    # the last line: the verdict, then the knowledge-band sentence
+    last = captured.out.strip().splitlines()[-1]
+    assert last.startswith(summary["verdict_sentence"]) and "credibility" in last
     assert "reports/skerrow-under-ice/index.html" in captured.out
     # stderr is not a terminal here: plain one-line stage messages, no bar characters
     stages = captured.err.strip().splitlines()

@@ -411,22 +411,23 @@ def test_rank_tests_orders_by_net_value():
         TestCandidate("both, noisy", 0.01, ("th1", "th2"), residual_fraction=0.95),
         TestCandidate("full campaign", 0.30, ("th1", "th2")),
     ]
-    res = rank_tests(tests, net_benefit=nb, inputs={"th1": th1, "th2": th2}, currency="EUR", n_bootstrap=50, rng=3,
+    # amounts of order 0.1: in abstract units (in EUR they would all be "< 1 EUR", a tie)
+    res = rank_tests(tests, net_benefit=nb, inputs={"th1": th1, "th2": th2}, currency="kEUR units", n_bootstrap=50, rng=3,
                      total_indices={"th1": 0.6, "th2": 0.4})
     assert res.ranking_basis == VOI_BASIS == "expected value of information"
     names = [r.name for r in res.rows]
     assert names[0] == "pump bench test" and names[1] == "ballast trial"
     top = res.rows[0]
-    assert top.value == pytest.approx(unit_normal_loss(0.3, 1.0), abs=0.02)
-    assert top.net_value == pytest.approx(top.value - 0.05)
+    assert top.value_money == pytest.approx(unit_normal_loss(0.3, 1.0), abs=0.02)
+    assert top.net_value_money == pytest.approx(top.value_money - 0.05)
     full = next(r for r in res.rows if r.name == "full campaign")
-    assert full.value == pytest.approx(unit_normal_loss(0.3, math.hypot(1.0, 0.8)), abs=0.02)
+    assert full.value_money == pytest.approx(unit_normal_loss(0.3, math.hypot(1.0, 0.8)), abs=0.02)
     noisy = next(r for r in res.rows if r.name == "both, noisy")
     assert noisy.value_kind == "EVSI"
     # derived: r = 0.95 leaves preposterior sd 1.28 * sqrt(1 - 0.9025) = 0.40 -> L(0.3, 0.40)
-    assert noisy.value == pytest.approx(unit_normal_loss(0.3, math.hypot(1.0, 0.8) * math.sqrt(1 - 0.95**2)), abs=0.02)
+    assert noisy.value_money == pytest.approx(unit_normal_loss(0.3, math.hypot(1.0, 0.8) * math.sqrt(1 - 0.95**2)), abs=0.02)
     assert [r.rank for r in res.rows] == [1, 2, 3, 4]
-    assert "pump bench test" in res.sentence and "EUR" in res.sentence
+    assert "pump bench test" in res.sentence and "kEUR units" in res.sentence
     assert len(res.to_frame()) == 4
     assert_json_ready(res)
 
@@ -437,7 +438,7 @@ def test_rank_tests_falls_back_to_sobol_when_no_money():
     assert res.ranking_basis == SOBOL_BASIS
     assert "not a monetary value" in res.ranking_basis and "total Sobol index" in res.ranking_basis
     assert [r.name for r in res.rows] == ["b", "a", "c"]  # sums 0.35, 0.30, 0.25
-    assert all(r.value is None and r.net_value is None for r in res.rows)
+    assert all(r.value_money is None and r.net_value_money is None for r in res.rows)
     assert "not a monetary value" in res.sentence
     with pytest.raises(DecisionInputError, match="total_indices is None"):
         rank_tests(tests, net_benefit=None, inputs={}, total_indices=None)
@@ -558,7 +559,7 @@ def test_sweep_summary_shape_error():
 def test_bootstrap_fast_path_equals_plain_normal_equations(monkeypatch):
     # the precomputed cross-product path and the plain X'WX path solve the same weighted
     # normal equations with the same resamples: equal to rounding (1e-9 relative)
-    import uq.decisions.value_of_information as voi
+    import uq.decisions._regression as voi
 
     nb, th1, th2 = _linear_decision(13)
     args = dict(n_bootstrap=20, rng=5)

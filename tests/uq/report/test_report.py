@@ -46,7 +46,7 @@ REQUIRED_KEYS = {
 FILES = ["index.html", "summary.json", "range_curve.csv", "sensitivity.csv", "tests.csv",
          "contingency.csv", "failures.csv", "inputs.csv"]
 FIGURES = ["range_curve", "failures", "sensitivity_range_km", "sensitivity_failure",
-           "contingency"]
+           "contingency", "knowledge_band"]
 
 
 def _no_nan(text: str):

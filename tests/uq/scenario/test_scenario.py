@@ -358,6 +358,13 @@ BAD = [
      r"decision\.ship_day_rate = .*expected a plain number \(distributions are not allowed here\)"),
     ("currency", PROPELLER, "ship_day_rate = 30000.0", 'ship_day_rate = 30000.0\ncurrency = "euro"',
      r"decision\.currency = 'euro': expected an ISO 4217 currency code"),
+    ("knowledge-misspelt-input", PROPELLER, "ship_day_rate = 30000.0",
+     'ship_day_rate = 30000.0\nknowledge = ["vehicle.propulsive_eficiency"]',
+     r"decision\.knowledge = 'vehicle\.propulsive_eficiency': expected the name of an uncertain input"),
+    ("nature-twice", PROPELLER, "ship_day_rate = 30000.0",
+     'ship_day_rate = 30000.0\nknowledge = ["vehicle.propulsive_efficiency"]\n'
+     'variability = ["vehicle.propulsive_efficiency"]',
+     r"decision\.variability = 'vehicle\.propulsive_efficiency': expected an input not also listed in decision\.knowledge"),
     ("test-misspelt-input", PROPELLER, 'inputs = ["vehicle.propulsive_efficiency"]', 'inputs = ["vehicle.propulsive_eficiency"]',
      r"decision\.tests\[0\]\.inputs = 'vehicle\.propulsive_eficiency': expected the name of an uncertain input of "
      r"this scenario; did you mean 'vehicle\.propulsive_efficiency'\?"),
