@@ -44,7 +44,7 @@ from .value_of_information import (
     pinned_input_probabilities,
     rank_tests,
 )
-from .verdict import Verdict, go_no_go, samples_to_settle
+from .verdict import Verdict, go_no_go, samples_to_settle, verdict_for
 
 __all__ = [
     # errors
@@ -57,6 +57,7 @@ __all__ = [
     "Verdict",
     "go_no_go",
     "samples_to_settle",
+    "verdict_for",
     # failures
     "BreakdownRow",
     "FailureBreakdown",

@@ -49,6 +49,14 @@ def _comparison(comparison):
     return getattr(comparison, "comparison", comparison)
 
 
+def _order(a):
+    order = a.sensitivity_order() if hasattr(a, "sensitivity_order") else None
+    if order is None:
+        return None
+    return {"order_resolved": order.order_resolved, "suggested_base_n": order.suggested_base_n,
+            "sentence": order.sentence}
+
+
 def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
     """Headline figures, decisions and run record of ``assessment`` as JSON-ready builtins.
 
@@ -122,6 +130,10 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "mean_margin_Wh": interval_dict(prop.mean_margin_Wh),
         "contingency": a.contingency.to_dict() if a.contingency is not None else None,
         "sensitivity_ranking": a.sensitivity_ranking(),
+        "sensitivity_order": _order(a),
+        "surrogate_factor_indices": (sens.pce_factors.to_rows()
+                                     if sens is not None and sens.pce_factors is not None else None),
+        "sequential_rule": dict(getattr(a, "sequential", {}) or {}),
         "sensitivity_indices": indices,
         "surrogate": pce,
         "test_ranking": tests,

@@ -75,7 +75,7 @@ from scipy import stats
 from uq import decisions, estimators
 from uq.studies.assess import package_versions
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, SumReducer, stream
-from uq.sampling.plans import SampleDesign
+from uq.sampling.plans import SampleDesign, plan_size
 from uq.scenario import MISSING, Scenario, ScenarioError, parse_scenario
 from uq.simulate import ScenarioModel, nominal
 from uq.studies.sweeps import columns_for, inputs_from_shared, shared_copula
@@ -525,7 +525,7 @@ def _check_settings(samples: Any, scheme: str, replicates: int) -> None:
     if scheme == "sobol":
         per, rest = divmod(int(samples), replicates)
         if rest or per < 1 or per & (per - 1):
-            good = replicates * (1 << max(1, round(math.log2(max(samples / replicates, 2)))))
+            good = plan_size(int(samples), scheme=scheme, replicates=replicates)[1]
             raise StudySettingsError(
                 f"samples = {samples!r}: expected {replicates} x 2^m for scheme 'sobol' with "
                 f"{replicates} replicates (scrambled Sobol' replicates need n = 2^m each), "
@@ -716,26 +716,13 @@ def _jsonable(x: Any) -> Any:
 
 
 def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
-    k = sum(c for c, _ in counts)
-    n = sum(m for _, m in counts)
-    fractions = tuple(c / m for c, m in counts)
-    if scheme == "sobol" and len(counts) >= 2:
-        est = estimators.replicate_interval(fractions, confidence=confidence)
-        lo, hi = max(0.0, est.lower), min(1.0, est.upper)
-        mid = min(max(est.estimate, lo), hi)
-        return estimators.IntervalEstimate(mid, lo, hi, confidence, est.method, n), fractions
-    return estimators.proportion_interval(k, n, confidence=confidence), fractions
+    est = estimators.success_probability(counts, randomised=scheme == "sobol",
+                                         confidence=confidence)
+    return est, est.replicate_fractions
 
 
 def _mean(sums: list, scheme: str, confidence: float) -> estimators.IntervalEstimate:
-    if scheme == "sobol" and len(sums) >= 2:
-        return estimators.replicate_interval([s.mean for s in sums], confidence=confidence)
-    total = sums[0]  # one plan outside RQMC
-    n = total.n
-    se = total.sd / math.sqrt(n) if n > 1 else float("nan")
-    t = float(stats.t.ppf(0.5 + confidence / 2.0, n - 1)) if n > 1 else float("nan")
-    return estimators.IntervalEstimate(total.mean, total.mean - t * se, total.mean + t * se,
-                                       confidence, f"student-t over {n} samples", n)
+    return estimators.replicated_mean(sums, randomised=scheme == "sobol", confidence=confidence)
 
 
 def _spearman_ranking(names: Sequence[str], inputs: np.ndarray, margin: np.ndarray):
@@ -856,9 +843,7 @@ def _summarise(variant: Variant, parts: list[dict], scheme: str, scenario: Scena
     conf = dec.confidence
     p, fractions = _proportion([(q["success"].count, q["success"].n) for q in parts], scheme, conf)
     n = p.n
-    verdict = decisions.go_no_go(p.lower, p.upper, p.estimate,
-                                 required_probability=dec.required_probability,
-                                 confidence=conf, samples=n)
+    verdict = decisions.verdict_for(p, required_probability=dec.required_probability)
     durations = np.concatenate([q["arrival"]["duration_days"] for q in parts])
     reached = np.concatenate([q["arrival"]["reached"] for q in parts]).astype(bool)
     base = nominal(scenario)

@@ -6,7 +6,7 @@ under the hyperbola x1 x2 = t in the unit square). With t = 0.6, P = 0.90649.
 import numpy as np
 import pytest
 
-from uq.studies.assess import _proportion
+from uq.estimators import success_probability
 from uq.sampling.plans import SampleDesign
 
 T = 0.6
@@ -21,7 +21,7 @@ def _coverage(scheme, repetitions, *, n, replicates):
             d = SampleDesign(scheme=scheme, n=n, dimension=2, seed=1000 + rep, replicate=r)
             u = d.unit_points()
             counts.append((int(np.count_nonzero(u[:, 0] * u[:, 1] <= T)), n))
-        est, _ = _proportion(counts, scheme, 0.95)
+        est = success_probability(counts, randomised=scheme == "sobol", confidence=0.95)
         covered += est.lower <= P_TRUE <= est.upper
     return covered / repetitions
 
