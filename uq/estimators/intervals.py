@@ -39,12 +39,12 @@ __all__ = [
     "QuantileInterval",
     "ExceedanceCurve",
     "check_confidence",
-    "student_t_interval",
     "proportion_interval",
     "clopper_pearson_bounds",
     "wilson_bounds",
     "replicate_interval",
     "mean_interval",
+    "mean_interval_from_moments",
     "exceedance_curve",
     "exceedance_curve_from_counts",
     "dkw_half_width",
@@ -263,41 +263,25 @@ def _finite_sample(values, name: str, minimum: int) -> np.ndarray:
     return x
 
 
-def student_t_interval(mean: float, sd: float, n: int, *, confidence: float = 0.95,
-                       method: str | None = None) -> IntervalEstimate:
-    """The one Student-t interval: ``mean ± t_{n-1} sd / sqrt(n)``.
-
-    Parameters
-    ----------
-    mean : float
-        Sample mean (units of the quantity).
-    sd : float
-        Sample standard deviation with ddof = 1 (same units).
-    n : int
-        Number of i.i.d. values behind ``mean`` (>= 2).
-    confidence : float, default 0.95
-    method : str, optional
-        Label stored in the result (default ``"student-t over n values"``).
-
-    Returns
-    -------
-    IntervalEstimate
-        With ``n`` values; streamed sums (:class:`uq.sampling.engine.SumTotal`) and arrays
-        use the same rule.
-    """
-    confidence = check_confidence(confidence)
-    if isinstance(n, bool) or int(n) != n or n < 2:
-        raise InsufficientSamplesError(f"a Student-t interval needs n >= 2 values; got {n!r}")
-    n = int(n)
-    mean, sd = float(mean), float(sd)
-    half = float(stats.t.ppf(0.5 + confidence / 2.0, n - 1)) * sd / math.sqrt(n)
-    return IntervalEstimate(mean, mean - half, mean + half, confidence,
-                            method or f"student-t over {n} values", n)
-
-
 def _t_interval(x: np.ndarray, confidence: float, method: str) -> IntervalEstimate:
-    return student_t_interval(float(np.mean(x)), float(np.std(x, ddof=1)), x.size,
-                              confidence=confidence, method=method)
+    return mean_interval_from_moments(x.size, float(np.mean(x)), float(np.std(x, ddof=1)),
+                                      confidence=confidence, method=method)
+
+
+def mean_interval_from_moments(n: int, mean: float, sd: float, *, confidence: float = 0.95,
+                               method: str | None = None) -> IntervalEstimate:
+    """Student-t interval ``mean +- t_{n-1} sd / sqrt(n)`` from a count, a mean and a sample sd.
+
+    The one Student-t rule: :func:`mean_interval`, :func:`replicate_interval` and the streamed
+    sums of a study (:class:`uq.sampling.engine.SumTotal`) all end here.
+    """
+    confidence = _check_confidence(confidence)
+    if n < 2:
+        raise InsufficientSamplesError(f"a Student-t interval needs at least 2 values; got {n}")
+    se = float(sd) / math.sqrt(n)
+    t = float(stats.t.ppf(0.5 + confidence / 2.0, n - 1))
+    return IntervalEstimate(float(mean), mean - t * se, mean + t * se, confidence,
+                            method or f"student-t over {n} samples", int(n))
 
 
 def replicate_interval(replicate_estimates, *, confidence: float = 0.95) -> IntervalEstimate:
@@ -333,7 +317,7 @@ def mean_interval(values, *, confidence: float = 0.95) -> IntervalEstimate:
     """Student-t interval for the mean of i.i.d. values (n >= 2)."""
     confidence = _check_confidence(confidence)
     x = _finite_sample(values, "mean_interval", 2)
-    return _t_interval(x, confidence, "student-t")
+    return _t_interval(x, confidence, f"student-t over {x.size} samples")
 
 
 # ---------------------------------------------------------------------- exceedance

@@ -57,7 +57,7 @@ from uq.estimators.intervals import (
     mean_interval,
     proportion_interval,
     replicate_interval,
-    student_t_interval,
+    mean_interval_from_moments,
 )
 
 __all__ = [
@@ -215,6 +215,6 @@ def replicated_mean(parts: Sequence, *, randomised: bool,
     part = parts[0]
     if isinstance(part, np.ndarray) or not hasattr(part, "sd"):
         return mean_interval(np.asarray(part, dtype=float), confidence=confidence)
-    return student_t_interval(part.mean, part.sd, part.n, confidence=confidence,
-                              method=f"student-t over {part.n} samples")
+    return mean_interval_from_moments(part.n, part.mean, part.sd, confidence=confidence,
+                                      method=f"student-t over {part.n} samples")
 

@@ -27,17 +27,17 @@ import os
 import re
 import tomllib
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field, replace
-from typing import Any, Union
+from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
 from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
-from uq.scenario.errors import MISSING, ScenarioError, _short_repr
+from uq.scenario.errors import MISSING, ScenarioError
 from uq.scenario.types import (
     Analysis, Battery, Decision, DragCoefficient, Fouling, GliderPolar, GliderSetpoint,
     GliderVehicle, HullGeometry, Leg, Limits, PropellerSetpoint, PropellerVehicle,
-    RankCorrelation, Scenario, TestCandidate, Value,
+    RankCorrelation, Scenario, TestCandidate,
 )
 
 __all__ = ["load_scenario", "parse_scenario"]

@@ -32,13 +32,12 @@ from typing import Any, Callable
 
 import numpy as np
 
-from physics.states import FAILURE_MODE_NAMES
 from uq import decisions, estimators
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
 from uq.sampling.inputs import InputModel
-from uq.sampling.plans import SampleDesign, plan_size
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, plan_size
 from uq.scenario import Scenario
-from uq.simulate import NominalResult, ScenarioModel, nominal
+from uq.simulate import FAILURE_MODE_NAMES, NominalResult, Outcomes, ScenarioModel, nominal
 
 __all__ = [
     "OUTPUT_KEYS",
@@ -54,9 +53,7 @@ __all__ = [
 ]
 
 #: per-sample outputs kept from the propagation (plus the input values themselves)
-OUTPUT_KEYS = ("range_km", "range_censored", "arrived", "reaches_recovery", "success",
-               "failure_mode",
-               "failing_leg", "duration_days", "margin_Wh", "margin_fraction")
+OUTPUT_KEYS = Outcomes.__dataclass_fields__.keys()
 _RANGE_QUANTILES = (0.05, 0.1, 0.5, 0.9, 0.95)
 _DURATION_QUANTILES = (0.5, 0.9, 0.95)
 #: outputs whose Sobol indices are reported, with their units
@@ -76,7 +73,7 @@ class Settings:
     confidence: float
     workers: int = 1
     chunk_blocks: int = 1
-    block_size: int = 2**15
+    block_size: int = DEFAULT_BLOCK_SIZE
     polynomial_chaos: bool = True
     #: predeclared maximum number of looks at P(success) (sequential rule; 1 = one look)
     max_looks: int = 1
@@ -114,7 +111,7 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
         confidence=scenario.decision.confidence,
         workers=int(overrides.get("workers") or 1),
         chunk_blocks=int(overrides.get("chunk_blocks") or 1),
-        block_size=int(overrides.get("block_size") or 2**15),
+        block_size=int(overrides.get("block_size") or DEFAULT_BLOCK_SIZE),
         polynomial_chaos=overrides.get("polynomial_chaos", True),
     )
 
@@ -139,7 +136,7 @@ class _ModelWithInputs:
     model: ScenarioModel
 
     def __call__(self, x: np.ndarray) -> dict[str, np.ndarray]:
-        out = self.model(x)
+        out = dict(self.model(x))
         out["inputs"] = x
         return out
 
@@ -149,7 +146,7 @@ class Propagation:
     """Per-sample outcomes of the main sample and the estimators built on them."""
 
     designs: tuple[SampleDesign, ...]
-    outcomes: dict[str, np.ndarray]  # pooled over replicates, plan order
+    outcomes: Outcomes  # pooled over replicates, plan order
     inputs: np.ndarray  # (n, d) physical input values, same rows
     input_names: tuple[str, ...]
     p_success: estimators.IntervalEstimate
@@ -192,7 +189,7 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
     done = 0
     for design in designs:
         reducer = MultiReducer({
-            "rows": CollectReducer(OUTPUT_KEYS + ("inputs",), design.n),
+            "rows": CollectReducer(tuple(OUTPUT_KEYS) + ("inputs",), design.n),
             "success": CountReducer("success"),
             "arrived": CountReducer("reaches_recovery"),
         })
@@ -209,7 +206,7 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
         pieces.append(result["rows"])
         counts.append((result["success"].count, result["success"].n))
         arrive_counts.append((result["arrived"].count, result["arrived"].n))
-    outcomes = {k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS}
+    outcomes = Outcomes.from_columns({k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS})
     inputs = np.concatenate([p["inputs"] for p in pieces])[:, :d]
     conf = settings.confidence
     randomised = settings.scheme == "sobol"
@@ -427,6 +424,30 @@ class Assessment:
     def p_success(self) -> estimators.IntervalEstimate:
         return self.propagation.p_success
 
+    def __repr__(self) -> str:
+        # a notebook echoes the object: one line, not the 60,000 characters of every array
+        p = self.propagation.p_success
+        return (f"<Assessment {self.scenario.name!r}: {self.verdict.verdict.upper()}, "
+                f"P(success) {p.estimate:.1%} ({p.confidence:.0%} CI {p.lower:.1%} to "
+                f"{p.upper:.1%}) against {self.scenario.decision.required_probability:.1%} "
+                f"required; {self.propagation.samples:,} samples, seed {self.settings.seed}>")
+
+    def _repr_html_(self) -> str:
+        """Rich display in a notebook: the verdict sentence and the headline figures."""
+        import html
+
+        p = self.propagation.p_success
+        rows = [("verdict", self.verdict.verdict.upper()),
+                ("P(success)", f"{p.estimate:.1%} ({p.confidence:.0%} CI {p.lower:.1%} to {p.upper:.1%})"),
+                ("required", f"{self.scenario.decision.required_probability:.1%}"),
+                ("samples / seed", f"{self.propagation.samples:,} / {self.settings.seed}")]
+        if self.contingency is not None:
+            rows.append(("ship time", self.contingency.sentence))
+        body = "".join(f"<tr><th style='text-align:left'>{html.escape(k)}</th>"
+                       f"<td style='text-align:left'>{html.escape(v)}</td></tr>" for k, v in rows)
+        return (f"<div><strong>{html.escape(self.scenario.name)}</strong>: "
+                f"{html.escape(self.verdict.sentence)}<table>{body}</table></div>")
+
     def sensitivity_ranking(self) -> list[dict]:
         """Factors (inputs or correlated groups, one row each) ranked by the total index of
         the failure indicator (then of range), each index with its interval.
@@ -481,10 +502,15 @@ def package_versions() -> dict[str, str]:
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
-           block_size: int = 2**15, polynomial_chaos: bool = True,
+           block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
-           progress: Callable[[str, int, int], None] | None = None) -> Assessment:
+           progress: Callable[[str, int, int], None] | None = None,
+           executor=None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
+
+    ``executor``: any object with an ordered ``.map(fn, iterable)`` (e.g. from
+    :func:`uq.sampling.backends.dask_executor`); when given, ``workers`` is not used. The
+    numbers do not depend on the executor, the worker count or ``chunk_blocks``.
 
     With ``target_half_width`` the propagation doubles its sample size until the half-width
     of the P(success) interval is at most that (e.g. 0.01) or ``max_samples`` is reached; the
@@ -502,7 +528,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     stage_seeds = np.random.SeedSequence(settings.seed, spawn_key=(2**31,)).spawn(3)
     timings: dict[str, float] = {}
     cautions: list[str] = []
-    pool = ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext()
+    pool = (nullcontext(executor) if executor is not None
+            else ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext())
     with warnings.catch_warnings(record=True) as caught, pool as executor:
         warnings.simplefilter("always")
         t0 = time.perf_counter()
