@@ -410,37 +410,38 @@ def rank_factors(factors: Sequence[str], members: Sequence[Sequence[str]], first
                          sentence=sentence)
 
 
-def indicator_total_bounds(flips, base_n: int, variance: float, *,
+def indicator_total_bounds(values, n_factors: int, *,
                            confidence: float = 0.95) -> tuple[np.ndarray, np.ndarray]:
     """Exact bounds on Jansen's total index of a 0/1 output from its flip counts.
 
     For an indicator, Jansen's estimator is ``m / (2 N V)`` with ``m`` the number of base
-    rows whose output flips when the factor is resampled; Clopper-Pearson bounds on
-    ``m / N`` give bounds that are never degenerate for a positive estimate (the output
-    variance V is taken as known).
+    rows whose output flips when the factor is resampled and V the variance of the A and B
+    rows; Clopper-Pearson bounds on ``m / N`` give bounds that are never degenerate for a
+    positive estimate (V taken as known).
 
     Parameters
     ----------
-    flips : array_like of int
-        Flip counts per factor.
-    base_n : int
-    variance : float
-        Output variance [-].
+    values : (N (D + 2),) array_like
+        The 0/1 output in Saltelli design row order (see :func:`indicator_flips`).
+    n_factors : int
+        Number of factors D.
     confidence : float
 
     Returns
     -------
-    lower, upper : ndarray [-]
+    lower, upper : ndarray, shape (D,) [-]
     """
     confidence = check_confidence(confidence)
-    m = np.asarray(flips, dtype=float)
+    y = np.asarray(values, dtype=float).reshape(-1, n_factors + 2)
+    base_n = y.shape[0]
+    variance = float(np.concatenate([y[:, 0], y[:, -1]]).var())
+    m = indicator_flips(values, n_factors).astype(float)
     alpha = 1.0 - confidence
     lo = np.where(m > 0, stats.beta.ppf(alpha / 2, np.maximum(m, 1), base_n - m + 1), 0.0)
     hi = np.where(m < base_n, stats.beta.ppf(1 - alpha / 2, m + 1, np.maximum(base_n - m, 1)),
                   1.0)
     scale = 1.0 / (2.0 * variance) if variance > 0 else 0.0
     return lo * scale, hi * scale
-
 
 def indicator_flips(values, n_factors: int) -> np.ndarray:
     """Flip counts of a 0/1 output between the A rows and each factor's AB rows.

@@ -265,7 +265,8 @@ class Sensitivity:
     pce_space: str  # "physical inputs" | "independent unit variables"
     notes: tuple[str, ...] = ()
     pce_factors: Any | None = None  # uq.estimators.sensitivity.GroupIndices, with intervals
-    flips: dict | None = None  # output -> flip counts per factor (0/1 outputs only)
+    #: output -> exact (lower, upper) bounds of the total index of a 0/1 output
+    indicator_bounds: dict | None = None
 
     @property
     def members(self) -> tuple[tuple[str, ...], ...]:
@@ -294,10 +295,8 @@ class Sensitivity:
         res = self.sobol[output]
         total_low = np.asarray(res.total_interval.low, dtype=float)
         total_high = np.asarray(res.total_interval.high, dtype=float)
-        if self.flips is not None and output in self.flips:
-            lo, hi = sens_est.indicator_total_bounds(
-                self.flips[output], self.base_n, res.output_variance * 1.0,
-                confidence=res.confidence)
+        if self.indicator_bounds is not None and output in self.indicator_bounds:
+            lo, hi = self.indicator_bounds[output]
             total_low, total_high = np.minimum(total_low, lo), np.maximum(total_high, hi)
         first, total = np.asarray(res.first, float), np.asarray(res.total, float)
         return sens_est.rank_factors(
@@ -347,13 +346,14 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
     }
     sobol = sa.sobol_indices(design, outputs, confidence=settings.confidence,
                              seed=int(boot_seed.generate_state(1)[0]))
-    flips = {"failure": sens_est.indicator_flips(outputs["failure"], design.n_factors)}
+    bounds = {"failure": sens_est.indicator_total_bounds(outputs["failure"], design.n_factors,
+                                                         confidence=settings.confidence)}
     pce_part = _margin_surrogate(scenario, settings, propagation, input_model, group_list,
                                  seed=pce_seed) if settings.polynomial_chaos else {}
     return Sensitivity(
         sobol=sobol, factors=tuple(sobol["range_km"].factors),
         groups=tuple(group_list) if grouped else None, base_n=settings.sensitivity_base_n,
-        runs=design.n_runs, flips=flips,
+        runs=design.n_runs, indicator_bounds=bounds,
         **({"pce": None, "pce_indices": None, "pce_space": "physical inputs"} | pce_part))
 
 
