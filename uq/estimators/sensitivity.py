@@ -25,6 +25,8 @@ References
    model uncertainty and correlated inputs. Reliab. Eng. Syst. Saf. 91:1126-1134.
 .. [3] Efron, B. & Tibshirani, R. J. (1993). An Introduction to the Bootstrap. Chapman &
    Hall, ch. 13 (percentile intervals).
+.. [4] White, H. (1980). A heteroskedasticity-consistent covariance matrix estimator and a
+   direct test for heteroskedasticity. Econometrica 48(4):817-838.
 """
 from __future__ import annotations
 
@@ -192,7 +194,8 @@ class GroupIndices:
     total_high: np.ndarray
     confidence: float
     n_bootstrap: int
-    method: str = "polynomial chaos coefficients; percentile bootstrap of the least-squares fit"
+    method: str = ("polynomial chaos coefficients; percentile bootstrap from the sandwich "
+                   "covariance of the least-squares fit")
 
     def to_rows(self) -> list[dict]:
         """One plain dict per factor."""
@@ -213,8 +216,9 @@ def pce_group_indices(pce, samples: np.ndarray, outputs: np.ndarray,
                       n_bootstrap: int = 200, rng=None) -> GroupIndices:
     """Group (or single-input) indices of a fitted PCE with percentile-bootstrap intervals.
 
-    The basis the fit selected is kept; the rows ``(samples, outputs)`` are resampled with
-    replacement and the coefficients refitted by least squares ``n_bootstrap`` times.
+    The basis the fit selected is kept; ``n_bootstrap`` coefficient vectors are drawn from
+    the least-squares estimate's sandwich covariance on ``(samples, outputs)`` (a parametric
+    bootstrap robust to unequal residual variance) and the indices recomputed for each.
 
     Parameters
     ----------
@@ -244,19 +248,16 @@ def pce_group_indices(pce, samples: np.ndarray, outputs: np.ndarray,
     first, total = group_indices_from_coefficients(pce.multi_indices, pce.coefficients, cols)
     basis = pce.basis_matrix(samples)
     y = np.asarray(outputs, dtype=float)
-    n = y.size
-    refits = np.empty((int(n_bootstrap), basis.shape[1]))
-    for b in range(int(n_bootstrap)):
-        # a resample with replacement = the rows weighted by how often they were drawn;
-        # the weighted normal equations are far cheaper than an SVD of the resampled rows
-        weights = np.bincount(rng.integers(0, n, size=n), minlength=n).astype(float)
-        gram = basis.T @ (basis * weights[:, None])
-        try:
-            refits[b] = np.linalg.solve(gram, basis.T @ (weights * y))
-        except np.linalg.LinAlgError:
-            keep = weights > 0
-            refits[b] = np.linalg.lstsq(basis[keep] * np.sqrt(weights[keep])[:, None],
-                                        y[keep] * np.sqrt(weights[keep]), rcond=None)[0]
+    # Resampling the coefficients from their heteroscedasticity-consistent (sandwich)
+    # covariance (White 1980) replaces refitting the least squares on resampled rows: the
+    # same first-order distribution at the cost of one fit instead of n_bootstrap.
+    residual = y - basis @ np.asarray(pce.coefficients, dtype=float)
+    gram_inverse = np.linalg.pinv(basis.T @ basis)
+    meat = basis.T @ (basis * (residual ** 2)[:, None])
+    covariance = gram_inverse @ meat @ gram_inverse
+    covariance = 0.5 * (covariance + covariance.T)
+    refits = rng.multivariate_normal(np.asarray(pce.coefficients, dtype=float), covariance,
+                                     size=int(n_bootstrap), method="eigh")
     boot_first, boot_total = group_indices_from_coefficients(pce.multi_indices, refits, cols)
     tail = 50.0 * (1.0 - confidence)
     lo_f, hi_f = np.percentile(boot_first, [tail, 100.0 - tail], axis=0)

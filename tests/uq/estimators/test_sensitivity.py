@@ -90,3 +90,25 @@ def test_indicator_total_index_matches_salib_and_its_bounds_are_not_degenerate()
     assert res.total == pytest.approx(flips / (2 * design.base_n * var), rel=1e-9)
     lo, hi = indicator_total_bounds(fail, design.n_factors)
     assert np.all(lo <= res.total) and np.all(hi >= res.total) and np.all(hi > 0)
+
+
+def test_pce_group_indices_of_a_linear_model_with_bootstrap_intervals():
+    # derived (additive linear model): y = x1 + x2 + 2 x3 with independent N(0, 1) inputs,
+    # V = 6; the group {x1, x2} has first = total = 2/6, x3 has 4/6
+    import chaospy
+
+    from uq.estimators.pce import fit_polynomial_chaos
+    from uq.estimators.sensitivity import pce_group_indices
+
+    rng = np.random.default_rng(4)
+    x = rng.standard_normal((400, 3))
+    y = x[:, 0] + x[:, 1] + 2 * x[:, 2] + 0.1 * rng.standard_normal(400)  # small noise
+    pce = fit_polynomial_chaos([chaospy.Normal(0, 1)] * 3, x, y, max_degree=2, seed=1,
+                               names=("x1", "x2", "x3"))
+    g = pce_group_indices(pce, x, y, [("x1", "x2"), ("x3",)], rng=3)
+    # tolerance 0.01: the noise variance 0.01 is 0.2 % of V
+    assert g.total == pytest.approx([2 / 6, 4 / 6], abs=0.01)
+    assert g.first == pytest.approx([2 / 6, 4 / 6], abs=0.01)
+    assert np.all(g.total_low <= g.total) and np.all(g.total <= g.total_high)
+    assert np.all(g.total_high - g.total_low > 0)
+    assert g.factors == ("x1 + x2", "x3")
