@@ -165,6 +165,14 @@ class Propagation:
         return int(self.outcomes["success"].size)
 
 
+def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
+    """The one P(success) rule (:func:`uq.estimators.success_probability`) in the
+    ``(estimate, replicate fractions)`` form the outcome table takes."""
+    est = estimators.success_probability(counts, randomised=scheme == "sobol",
+                                         confidence=confidence)
+    return est, est.replicate_fractions
+
+
 def _quantiles(values: np.ndarray, qs, confidence: float):
     out = []
     for q in qs:
