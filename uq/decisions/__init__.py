@@ -58,7 +58,7 @@ from .value_of_information import (
 )
 from uq.scenario.types import TestCandidate
 from ._common import format_money, format_money_interval
-from .verdict import Verdict, go_no_go, samples_to_settle
+from .verdict import Verdict, go_no_go, samples_to_settle, verdict_for
 
 __all__ = [
     # errors
@@ -71,6 +71,7 @@ __all__ = [
     "Verdict",
     "go_no_go",
     "samples_to_settle",
+    "verdict_for",
     # failures
     "BreakdownRow",
     "FailureBreakdown",

@@ -52,10 +52,9 @@ class EmptySampleError(DecisionInputError):
 
 # --------------------------------------------------------------------------- validation
 def _check_confidence(confidence: float) -> float:
-    c = float(confidence)
-    if not 0.0 < c < 1.0:
-        raise OutOfRangeError(f"confidence={confidence!r}: expected a number strictly between 0 and 1")
-    return c
+    """The estimators' confidence check (:func:`uq.estimators.check_confidence`), raising
+    this layer's :class:`OutOfRangeError`."""
+    return _estimators.check_confidence(confidence, error=OutOfRangeError)
 
 
 def _check_probability_open(value: float, name: str) -> float:
@@ -127,13 +126,10 @@ def _quantile_with_interval(
 
 def _mean_t_interval(x: np.ndarray, confidence: float) -> tuple[float, float | None, float | None]:
     """Sample mean with a Student-t interval; bounds ``None`` for fewer than 2 values."""
-    m = x.size
-    mean = float(np.mean(x))
-    if m < 2:
-        return mean, None, None
-    se = float(np.std(x, ddof=1)) / math.sqrt(m)
-    t = float(stats.t.ppf(0.5 + 0.5 * confidence, m - 1))
-    return mean, mean - t * se, mean + t * se
+    if x.size < 2:
+        return float(np.mean(x)), None, None
+    est = _estimators.mean_interval(x, confidence=confidence)
+    return est.estimate, est.lower, est.upper
 
 
 def _normal_scores(x: np.ndarray) -> np.ndarray:

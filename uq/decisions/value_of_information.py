@@ -27,6 +27,7 @@ import numpy as np
 
 from ._common import (
     DecisionInputError,
+    ShapeMismatchError,
     OutOfRangeError,
     _as_bool_1d,
     _check_confidence,

@@ -5,6 +5,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from uq import estimators as _estimators
+
 from ._common import (
     DecisionInputError,
     OutOfRangeError,
@@ -17,7 +19,7 @@ from ._common import (
     _z,
 )
 
-__all__ = ["Verdict", "go_no_go", "samples_to_settle"]
+__all__ = ["Verdict", "go_no_go", "samples_to_settle", "verdict_for"]
 
 _SETTLE_TOLERANCE = 1e-12  # |p_hat - p*| below this: the estimate sits on the requirement
 _NO_SAMPLES_WILL_DO = (
@@ -42,7 +44,8 @@ class Verdict(_ResultMixin):
     samples : int
         Samples behind the estimate [-].
     samples_to_settle : int or None
-        Undecided only: smallest sample count [-] at which a Wilson interval around the
+        Undecided only: smallest sample count [-] at which the verdict's own interval
+        method (Wilson, or Clopper-Pearson at the effective sample size) around the
         current estimate would exclude p*; ``None`` when no feasible count exists.
     additional_samples : int or None
         ``max(samples_to_settle - samples, 0)`` [-].
@@ -62,9 +65,10 @@ class Verdict(_ResultMixin):
 
 
 def samples_to_settle(
-    p_estimate: float, required_probability: float, *, confidence: float, max_samples: int = 10**8
+    p_estimate: float, required_probability: float, *, confidence: float, max_samples: int = 10**8,
+    interval: str = "wilson", design_effect: float = 1.0,
 ) -> int | None:
-    """Smallest n at which a Wilson interval around ``p_estimate`` excludes p*.
+    """Smallest n at which the verdict's own interval around ``p_estimate`` excludes p*.
 
     Parameters
     ----------
@@ -73,9 +77,16 @@ def samples_to_settle(
     required_probability : float
         Requirement p* in (0, 1) [-].
     confidence : float
-        Two-sided confidence level [-].
+        Two-sided confidence level [-] (the per-look level under a sequential rule).
     max_samples : int
         Largest sample count considered feasible [-].
+    interval : {"wilson", "clopper-pearson"}
+        The interval the verdict was judged on: Wilson for one Monte Carlo / Latin
+        hypercube plan, Clopper-Pearson at the effective sample size for randomised QMC
+        (:func:`uq.estimators.success_probability`).
+    design_effect : float, default 1
+        ``n / n_eff`` of the estimator (below 1 when randomised QMC beats independent
+        sampling); assumed to hold as the sample grows.
 
     Returns
     -------
@@ -84,33 +95,48 @@ def samples_to_settle(
 
     Notes
     -----
-    The Wilson interval is the set of p with |p_hat - p| <= z sqrt(p (1 - p) / n)
-    (it inverts the score test). So p* lies on a bound exactly when
-    n = z^2 p* (1 - p*) / (p_hat - p*)^2. Above p* (a GO needs lower >= p*) the smallest
-    n is the ceiling of that; below p* (a NO-GO needs upper < p*, strict) it is the next
-    integer above it. The closed form is then checked (and nudged by one) against the
-    computed interval to absorb floating-point rounding.
+    The Wilson interval is the set of p with |p_hat - p| <= z sqrt(p (1 - p) / m), so p*
+    lies on a bound at m = z^2 p* (1 - p*) / (p_hat - p*)^2; that (or the next integer,
+    for a strict NO-GO) starts the search, which then steps to the smallest effective size
+    m whose interval settles the question, and returns ``ceil(m * design_effect)``.
     """
     p_hat = float(p_estimate)
     p_star = _check_probability_open(required_probability, "required_probability")
     confidence = _check_confidence(confidence)
+    if interval not in ("wilson", "clopper-pearson"):
+        raise DecisionInputError(
+            f"interval={interval!r}: expected 'wilson' or 'clopper-pearson'")
+    if not design_effect > 0:
+        raise OutOfRangeError(f"design_effect={design_effect!r}: expected a positive number")
     gap = p_hat - p_star
     if abs(gap) <= _SETTLE_TOLERANCE:
         return None
     z = _z(confidence)
-    n_boundary = z * z * p_star * (1.0 - p_star) / (gap * gap)
-    if n_boundary > max_samples:
+    m_boundary = z * z * p_star * (1.0 - p_star) / (gap * gap)
+    if m_boundary * design_effect > max_samples:
         return None
-    n = max(1, math.ceil(n_boundary) if gap > 0 else math.floor(n_boundary) + 1)
 
-    def settled(m: int) -> bool:
-        low, high = _wilson(p_hat * m, m, confidence)
+    def bounds(m: float) -> tuple[float, float]:
+        if interval == "wilson":
+            low, high = _wilson(p_hat * m, m, confidence)
+            return float(low), float(high)
+        return _estimators.clopper_pearson_bounds(p_hat * m, m, confidence=confidence)
+
+    def settled(m: float) -> bool:
+        low, high = bounds(m)
         return bool(low >= p_star) if gap > 0 else bool(high < p_star)
 
-    while not settled(n):
-        n += 1
-    while n > 1 and settled(n - 1):
-        n -= 1
+    m = max(1, math.ceil(m_boundary) if gap > 0 else math.floor(m_boundary) + 1)
+    step = max(1, m // 1000)
+    while not settled(m):
+        m += step
+        if m * design_effect > max_samples:
+            return None
+    while m > 1 and settled(m - step):
+        m -= step
+    while step > 1 and m > 1 and settled(m - 1):
+        m -= 1
+    n = max(1, math.ceil(m * design_effect))
     return n if n <= max_samples else None
 
 
@@ -123,6 +149,8 @@ def go_no_go(
     confidence: float,
     samples: int,
     max_samples: int = 10**8,
+    interval: str = "wilson",
+    design_effect: float = 1.0,
 ) -> Verdict:
     """Decide GO / NO-GO / UNDECIDED from an interval for the probability of success.
 
@@ -138,6 +166,9 @@ def go_no_go(
         Samples behind the estimate [-].
     max_samples : int
         Largest sample count considered feasible when planning more runs [-].
+    interval, design_effect
+        The interval method behind the estimate and its design effect, so that
+        :func:`samples_to_settle` plans with the same method (see there).
 
     Returns
     -------
@@ -173,7 +204,8 @@ def go_no_go(
         sentence = f"NO-GO: {head} falls short of {req} even at the upper bound."
     else:
         verdict = "undecided"
-        n_settle = samples_to_settle(est, p_star, confidence=confidence, max_samples=max_samples)
+        n_settle = samples_to_settle(est, p_star, confidence=confidence, max_samples=max_samples,
+                                     interval=interval, design_effect=design_effect)
         base = f"UNDECIDED: {head} straddles {req}"
         if n_settle is None:
             sentence = f"{base}; {_NO_SAMPLES_WILL_DO}."
@@ -187,7 +219,7 @@ def go_no_go(
                 )
             else:
                 sentence = (
-                    f"{base}; a binomial (Wilson) interval would already give {side} at {n_settle:,} "
+                    f"{base}; the interval method of the estimate would already give {side} at {n_settle:,} "
                     f"samples, so the supplied interval is wider than binomial sampling error alone: "
                     f"check the estimator's interval before running more samples."
                 )
@@ -203,3 +235,13 @@ def go_no_go(
         additional_samples=extra,
         sentence=sentence,
     )
+
+
+def verdict_for(estimate, *, required_probability: float, max_samples: int = 10**8) -> Verdict:
+    """:func:`go_no_go` on a :class:`uq.estimators.ProbabilityEstimate`, planning more samples
+    with the same interval method and design effect as the estimate."""
+    return go_no_go(estimate.lower, estimate.upper, estimate.estimate,
+                    required_probability=required_probability,
+                    confidence=estimate.confidence, samples=estimate.n, max_samples=max_samples,
+                    interval=getattr(estimate, "interval_kind", "wilson"),
+                    design_effect=getattr(estimate, "design_effect", 1.0))

@@ -38,8 +38,9 @@ __all__ = [
     "IntervalEstimate",
     "QuantileInterval",
     "ExceedanceCurve",
-    "ConvergenceResult",
+    "check_confidence",
     "proportion_interval",
+    "clopper_pearson_bounds",
     "wilson_bounds",
     "replicate_interval",
     "mean_interval",
@@ -51,7 +52,6 @@ __all__ = [
     "quantile_interval_from_counts",
     "quantile_ranks",
     "minimum_samples_for_quantile",
-    "grow_until",
     "histogram_exceedance_curve",
     "histogram_quantile_interval",
 ]
@@ -65,11 +65,32 @@ class InsufficientSamplesError(EstimatorError):
     """The sample is too small for the requested interval (say so rather than guess)."""
 
 
-def _check_confidence(confidence: float) -> float:
-    c = float(confidence)
-    if not 0.0 < c < 1.0:
-        raise EstimatorError(f"confidence must be strictly between 0 and 1; got {confidence!r}")
+def check_confidence(confidence: float, *, error: type[Exception] | None = None) -> float:
+    """The one confidence-level check: a number strictly between 0 and 1.
+
+    Parameters
+    ----------
+    confidence : float
+        Two-sided confidence level [-].
+    error : exception class, optional
+        Raised on a bad value (default :class:`EstimatorError`); callers in other layers
+        pass their own input-error class so their users see one error family.
+
+    Returns
+    -------
+    float
+    """
+    try:
+        c = float(confidence)
+    except (TypeError, ValueError):
+        c = float("nan")
+    if isinstance(confidence, bool) or not 0.0 < c < 1.0:
+        raise (error or EstimatorError)(
+            f"confidence must be strictly between 0 and 1; got {confidence!r}")
     return c
+
+
+_check_confidence = check_confidence
 
 
 def _z(confidence: float) -> float:
@@ -203,14 +224,33 @@ def proportion_interval(successes: int, n: int, *, confidence: float = 0.95,
         lo, hi = wilson_bounds(k, m, confidence=confidence)
         lower, upper = float(lo), float(hi)
     elif method == "clopper-pearson":
-        alpha = 1.0 - confidence
-        lower = 0.0 if k == 0 else float(stats.beta.ppf(alpha / 2.0, k, m - k + 1))
-        upper = 1.0 if k == m else float(stats.beta.ppf(1.0 - alpha / 2.0, k + 1, m - k))
+        lower, upper = clopper_pearson_bounds(k, m, confidence=confidence)
     else:
         raise EstimatorError(
             f"method must be 'wilson' or 'clopper-pearson'; got {method!r}"
         )
     return IntervalEstimate(k / m, lower, upper, confidence, method, m)
+
+
+def clopper_pearson_bounds(successes: float, n: float, *,
+                           confidence: float = 0.95) -> tuple[float, float]:
+    """Clopper-Pearson (1934) bounds as beta quantiles; ``successes`` and ``n`` may be
+    non-integer (an effective count and sample size, Korn & Graubard 1998).
+
+    Returns
+    -------
+    lower, upper : float
+        ``Beta(alpha/2; x, n - x + 1)`` and ``Beta(1 - alpha/2; x + 1, n - x)``; exactly 0
+        at ``x = 0`` and 1 at ``x = n``.
+    """
+    confidence = check_confidence(confidence)
+    x, m = float(successes), float(n)
+    if not (m > 0 and 0.0 <= x <= m):
+        raise EstimatorError(f"need 0 <= successes <= n and n > 0; got {successes!r}, {n!r}")
+    alpha = 1.0 - confidence
+    lower = 0.0 if x <= 0 else float(stats.beta.ppf(alpha / 2.0, x, m - x + 1.0))
+    upper = 1.0 if x >= m else float(stats.beta.ppf(1.0 - alpha / 2.0, x + 1.0, m - x))
+    return lower, upper
 
 
 # ---------------------------------------------------------------------- means
@@ -627,72 +667,6 @@ def quantile_interval_from_counts(edges, counts, q: float, *, below: int = 0, ab
         estimate=estimate, lower=lower, upper=upper, confidence=confidence,
         method="histogram order statistics (conservative, bin-rounded)", n=n,
         q=q, lower_rank=lower_rank, upper_rank=upper_rank, coverage=coverage,
-    )
-
-
-# ---------------------------------------------------------------------- convergence
-@dataclass(frozen=True)
-class ConvergenceResult:
-    """Outcome of :func:`grow_until`.
-
-    Attributes
-    ----------
-    estimate : IntervalEstimate
-        The last estimate computed.
-    n : int
-        Sample size of that estimate.
-    converged : bool
-        Whether ``estimate.half_width <= target_half_width``.
-    history : tuple of (int, IntervalEstimate)
-        Every ``(n, estimate)`` tried, in order.
-    target_half_width : float
-    """
-
-    estimate: IntervalEstimate
-    n: int
-    converged: bool
-    history: tuple = field(default=())
-    target_half_width: float = float("nan")
-
-
-def grow_until(run_fn: Callable[[int], IntervalEstimate], *, target_half_width: float,
-               n_start: int, n_max: int, growth: int = 2) -> ConvergenceResult:
-    """Grow the sample size until the interval is narrow enough.
-
-    Calls ``run_fn(n)`` for ``n = n_start, n_start*growth, ...`` while the returned
-    estimate's ``half_width`` exceeds ``target_half_width`` and the next n does not exceed
-    ``n_max`` (n never exceeds ``n_max``; with a power-of-two ``n_start`` and ``growth=2``
-    every n is a power of two, as scrambled Sobol' plans need).
-
-    Returns
-    -------
-    ConvergenceResult
-        ``converged=False`` when ``n_max`` stopped the growth first.
-    """
-    target = float(target_half_width)
-    if not target > 0.0:
-        raise EstimatorError(f"target_half_width must be > 0; got {target_half_width!r}")
-    for value, name in ((n_start, "n_start"), (n_max, "n_max"), (growth, "growth")):
-        if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
-            raise EstimatorError(f"{name} must be an integer; got {value!r}")
-    if n_start < 1 or n_max < n_start:
-        raise EstimatorError(f"need 1 <= n_start <= n_max; got n_start={n_start}, n_max={n_max}")
-    if growth < 2:
-        raise EstimatorError(f"growth must be an integer >= 2; got {growth}")
-    n = int(n_start)
-    history = []
-    while True:
-        estimate = run_fn(n)
-        history.append((n, estimate))
-        if estimate.half_width <= target or n * growth > n_max:
-            break
-        n *= growth
-    return ConvergenceResult(
-        estimate=estimate,
-        n=n,
-        converged=bool(estimate.half_width <= target),
-        history=tuple(history),
-        target_half_width=target,
     )
 
 

@@ -35,6 +35,7 @@ References
 from __future__ import annotations
 
 from uq.errors import InputError
+from uq.estimators.intervals import check_confidence
 
 import math
 import numbers
@@ -593,8 +594,9 @@ def sobol_indices(
             f"design must be a SaltelliDesign (it carries N, D and the second-order "
             f"flag), got {type(design).__name__}"
         )
-    if isinstance(confidence, bool) or not (isinstance(confidence, numbers.Real) and 0.0 < float(confidence) < 1.0):
+    if not isinstance(confidence, numbers.Real):
         raise SensitivityOptionError(f"confidence must be in (0, 1), got {confidence!r}")
+    check_confidence(confidence, error=SensitivityOptionError)
     if isinstance(n_bootstrap, bool) or not isinstance(n_bootstrap, (int, np.integer)) or n_bootstrap < 2:
         raise SensitivityOptionError(f"n_bootstrap must be an integer >= 2, got {n_bootstrap!r}")
     if not (np.isfinite(variance_rtol) and variance_rtol >= 0):

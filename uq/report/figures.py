@@ -187,7 +187,7 @@ def glide_polar_figure(polar, *, operating_u: float, operating_w: float,
 
 def knowledge_band_figure(band):
     """Histogram of P(success | knowledge inputs) with p* and the band's 5/50/95 % points."""
-    fig, ax = plt.subplots(figsize=(6.4, 3.0))
+    fig, ax = _subplots((6.4, 3.0))
     values = np.asarray(band.sample_values, dtype=float)
     ax.hist(100.0 * values, bins=np.linspace(0.0, 100.0, 51), color=_BLUE, alpha=0.8)
     ax.axvline(100.0 * band.required_probability, color=_RED, ls="--", label="required P(success)")

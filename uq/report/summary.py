@@ -55,6 +55,14 @@ def _comparison(comparison):
     return getattr(comparison, "comparison", comparison)
 
 
+def _order(a):
+    order = a.sensitivity_order() if hasattr(a, "sensitivity_order") else None
+    if order is None:
+        return None
+    return {"order_resolved": order.order_resolved, "suggested_base_n": order.suggested_base_n,
+            "sentence": order.sentence}
+
+
 def _outcome_keys(prop) -> dict[str, Any]:
     """``outcomes``, ``point_of_no_return_km`` and ``hardware_risk`` of a propagation."""
     table = getattr(prop, "outcome_table", None)
@@ -146,6 +154,10 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "recovery_window": a.recovery.to_dict() if a.recovery is not None else None,
         "pilot_actions": a.flight.to_dict() if a.flight is not None else None,
         "sensitivity_ranking": a.sensitivity_ranking(),
+        "sensitivity_order": _order(a),
+        "surrogate_factor_indices": (sens.pce_factors.to_rows()
+                                     if sens is not None and sens.pce_factors is not None else None),
+        "sequential_rule": dict(getattr(a, "sequential", {}) or {}),
         "sensitivity_indices": indices,
         "surrogate": pce,
         "test_ranking": tests,

@@ -68,6 +68,11 @@ class Reducer(Protocol):
         ...
 
 
+#: What :func:`stream` reads from a plan: a :class:`SampleDesign`, or any object with these
+#: (e.g. the rows of a Saltelli design, :class:`uq.estimators.sensitivity.SaltelliRows`).
+_PLAN_ATTRIBUTES = ("n", "dimension", "block_size", "n_blocks", "block_rows", "unit_points")
+
+
 def _output(outputs: Any, key: str | None) -> np.ndarray:
     """Fetch one output array from a dict / NamedTuple / array returned by the model."""
     if key is None:
@@ -115,7 +120,9 @@ def stream(
     Parameters
     ----------
     design : SampleDesign
-        The plan; its ``block_size`` sets the block layout.
+        The plan; its ``block_size`` sets the block layout. Any object with the same
+        ``n``, ``dimension``, ``block_size``, ``n_blocks``, ``block_rows(k)`` and
+        ``unit_points(start, stop)`` streams too (a plan whose rows are given).
     model_fn : callable
         ``model_fn(x) -> outputs`` with ``x`` an (rows, d) array (physical values if
         ``input_model`` is given, else unit points). Called exactly once per block.
@@ -137,8 +144,11 @@ def stream(
     object
         ``reducer.reduce(partials)`` — identical for any ``chunk_blocks`` and executor.
     """
-    if not isinstance(design, SampleDesign):
-        raise EngineError(f"design must be a SampleDesign; got {type(design).__name__}")
+    if not isinstance(design, SampleDesign) and not all(
+            hasattr(design, a) for a in _PLAN_ATTRIBUTES):
+        raise EngineError(
+            f"design must be a SampleDesign or provide {', '.join(_PLAN_ATTRIBUTES)}; got "
+            f"{type(design).__name__}")
     if isinstance(chunk_blocks, bool) or not isinstance(chunk_blocks, (int, np.integer)) or chunk_blocks < 1:
         raise EngineError(f"chunk_blocks must be an integer >= 1; got {chunk_blocks!r}")
     if input_model is not None and input_model.dimension != design.dimension:

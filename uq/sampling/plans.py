@@ -55,6 +55,7 @@ __all__ = [
     "scrambled_sobol",
     "latin_hypercube",
     "fresh_seed",
+    "plan_size",
 ]
 
 #: Supported plan schemes.
@@ -310,3 +311,32 @@ def latin_hypercube(n: int, d: int, *, seed: int | None = None, replicate: int =
     records it in the returned design.
     """
     return SampleDesign("latin-hypercube", n, d, _resolve_seed(seed), replicate, block_size)
+
+
+def plan_size(samples: int, *, scheme: str, replicates: int = 1) -> tuple[int, int]:
+    """The one sample-size rule: samples per replicate and in total for a requested size.
+
+    Scrambled Sobol' replicates need ``n = 2^m`` points each, so for ``scheme="sobol"``
+    the per-replicate size is ``samples / replicates`` rounded to the nearest power of
+    two (at least 2); other schemes take ``samples`` as given in one plan.
+
+    Parameters
+    ----------
+    samples : int
+        Requested total number of samples [-].
+    scheme : str
+        One of :data:`SCHEMES`.
+    replicates : int, default 1
+        Independent scramblings (Sobol' only; other schemes run one plan).
+
+    Returns
+    -------
+    per_replicate, total : int
+    """
+    samples = _check_int(samples, "samples", minimum=1)
+    replicates = _check_int(replicates, "replicates", minimum=1) if scheme == "sobol" else 1
+    if scheme != "sobol":
+        return samples, samples
+    per = max(samples / replicates, 2.0)
+    per = 1 << max(1, int(round(np.log2(per))))
+    return per, per * replicates

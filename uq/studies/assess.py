@@ -3,13 +3,14 @@
 ``assess(scenario)`` runs, in order:
 
 1. propagation — K independently scrambled Sobol' replicates (or one Monte Carlo / Latin
-   hypercube plan) streamed through the transit model; P(success) with its interval (replicate
-   t-interval for randomised QMC, Wilson for MC/LHS), the probability-of-reaching-range curve
+   hypercube plan) streamed through the transit model; P(success) with its interval (the one
+   rule of :func:`uq.estimators.success_probability`), the probability-of-reaching-range curve
    with pointwise intervals and a simultaneous DKW band, range/duration quantiles with
    order-statistic intervals, the mean energy margin;
-2. sensitivity — a Saltelli design through SALib for range, duration, margin and the failure
-   indicator (correlated inputs grouped), and a polynomial chaos surrogate of the margin with
-   Sobol indices from its coefficients and its leave-one-out / holdout quality;
+2. sensitivity — a Saltelli design streamed through the engine (so workers and Dask speed it
+   up) for range, duration, margin and the failure indicator (correlated inputs grouped, one
+   factor per group), and a polynomial chaos surrogate of the margin with Sobol indices from
+   its coefficients, bootstrap intervals, and its leave-one-out / holdout quality;
 3. decisions — go/no-go on the confidence bound, failure modes and legs, ship-time
    contingency, P(success) with each input pinned at its 10th/90th percentile, and the
    ranking of candidate tests by value of information (or by total Sobol index when the
@@ -35,7 +36,7 @@ from uq import decisions, estimators
 from uq.decisions.outcome_table import outcome_table as tabulate_outcomes
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
 from uq.sampling.inputs import InputModel
-from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, plan_size
 from uq.scenario import Scenario
 from uq.simulate import FAILURE_MODE_NAMES, NominalResult, Outcomes, ScenarioModel, nominal
 from uq.studies.decide import knowledge_band_of, rank_scenario_tests
@@ -76,6 +77,13 @@ class Settings:
     chunk_blocks: int = 1
     block_size: int = DEFAULT_BLOCK_SIZE
     polynomial_chaos: bool = True
+    #: predeclared maximum number of looks at P(success) (sequential rule; 1 = one look)
+    max_looks: int = 1
+
+    @property
+    def p_success_confidence(self) -> float:
+        """Confidence of the P(success) interval at one look under the sequential rule."""
+        return estimators.SequentialRule(self.confidence, self.max_looks).per_look_confidence
 
     @property
     def samples_per_replicate(self) -> int:
@@ -91,11 +99,8 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
     replicates = overrides.get("replicates") or a.replicates
     if scheme != "sobol":
         replicates = 1
-    samples = int(overrides.get("samples") or a.samples)
-    if scheme == "sobol":
-        per = max(samples // replicates, 2)
-        per = 1 << int(round(np.log2(per)))  # Sobol' replicates need n = 2^m
-        samples = per * replicates
+    _, samples = plan_size(int(overrides.get("samples") or a.samples), scheme=scheme,
+                           replicates=int(replicates))
     base_n = overrides.get("sensitivity_base_n")
     base_n = a.sensitivity_base_n if base_n is None else int(base_n)
     seed = overrides.get("seed")
@@ -162,22 +167,11 @@ class Propagation:
 
 
 def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
-    k = sum(c for c, _ in counts)
-    n = sum(m for _, m in counts)
-    fractions = [c / m for c, m in counts]
-    if scheme == "sobol" and len(counts) >= 2 and len(set(fractions)) > 1:
-        est = estimators.replicate_interval(fractions, confidence=confidence)
-        # a proportion's interval never leaves [0, 1]
-        return estimators.IntervalEstimate(
-            estimate=est.estimate, lower=max(0.0, est.lower), upper=min(1.0, est.upper),
-            confidence=est.confidence, method=est.method,
-            n=n), tuple(fractions)
-    if scheme == "sobol" and len(counts) >= 2:
-        # every replicate gave the same fraction (e.g. all succeed): the replicate spread says
-        # nothing, so fall back to the exact binomial interval on the pooled counts
-        return estimators.proportion_interval(k, n, confidence=confidence,
-                                              method="clopper-pearson"), tuple(fractions)
-    return estimators.proportion_interval(k, n, confidence=confidence), (k / n,)
+    """The one P(success) rule (:func:`uq.estimators.success_probability`) in the
+    ``(estimate, replicate fractions)`` form the outcome table takes."""
+    est = estimators.success_probability(counts, randomised=scheme == "sobol",
+                                         confidence=confidence)
+    return est, est.replicate_fractions
 
 
 def _quantiles(values: np.ndarray, qs, confidence: float):
@@ -226,8 +220,11 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
     outcomes = Outcomes.from_columns({k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS})
     inputs = np.concatenate([p["inputs"] for p in pieces])[:, :d]
     conf = settings.confidence
-    p_success, per_rep = _proportion(counts, settings.scheme, conf)
-    p_arrive, _ = _proportion(arrive_counts, settings.scheme, conf)
+    randomised = settings.scheme == "sobol"
+    p_conf = settings.p_success_confidence
+    p_success = estimators.success_probability(counts, randomised=randomised, confidence=p_conf)
+    p_arrive = estimators.success_probability(arrive_counts, randomised=randomised,
+                                              confidence=p_conf)
     route = scenario.route_length_km
     cap = float(np.max(outcomes["range_km"]))
     grid = np.linspace(0.0, max(cap, route) * 1.0, 241)
@@ -239,16 +236,13 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
         inputs=inputs,
         input_names=scenario.input_names,
         p_success=p_success,
-        p_success_replicates=per_rep,
+        p_success_replicates=p_success.replicate_fractions,
         p_arrive=p_arrive,
         range_curve=curve,
         range_quantiles=_quantiles(outcomes["range_km"], _RANGE_QUANTILES, conf),
         duration_quantiles=_quantiles(durations, _DURATION_QUANTILES, conf),
-        mean_margin_Wh=(
-            estimators.replicate_interval([p["margin_Wh"].mean() for p in pieces],
-                                          confidence=conf)
-            if settings.scheme == "sobol" and len(pieces) >= 2
-            else estimators.mean_interval(outcomes["margin_Wh"], confidence=conf)),
+        mean_margin_Wh=estimators.replicated_mean([p["margin_Wh"] for p in pieces],
+                                                  randomised=randomised, confidence=conf),
         route_km=route,
         outcome_table=tabulate_outcomes(
             outcomes, replicate_sizes=[d.n for d in designs], scheme=settings.scheme,
@@ -270,27 +264,62 @@ class _DimensionGuard:
 
 @dataclass(frozen=True)
 class Sensitivity:
-    """Variance-based sensitivity of the outputs (SALib) and the PCE surrogate of the margin."""
+    """Variance-based sensitivity of the outputs (Saltelli) and the PCE surrogate of the margin.
 
-    sobol: Any  # uq.estimators.sobol.SobolResults, keyed by output
+    A factor is an input, or a group of correlated inputs (one factor, named by its
+    members); only a group's indices are defined, so its members are never ranked one by one.
+    """
+
+    sobol: Any  # uq.estimators.sobol.SobolResults, keyed by output, one entry per factor
     factors: tuple[str, ...]  # input names or correlated-group labels
     groups: tuple[tuple[str, ...], ...] | None
     base_n: int
     runs: int
     pce: Any | None  # uq.estimators.pce.PolynomialChaos of margin_Wh
-    pce_indices: Any | None
+    pce_indices: Any | None  # per input (a group member shows its group's value)
     pce_space: str  # "physical inputs" | "independent unit variables"
     notes: tuple[str, ...] = ()
+    pce_factors: Any | None = None  # uq.estimators.sensitivity.GroupIndices, with intervals
+    #: output -> exact (lower, upper) bounds of the total index of a 0/1 output
+    indicator_bounds: dict | None = None
+
+    @property
+    def members(self) -> tuple[tuple[str, ...], ...]:
+        """Member inputs of each factor, in the order of ``factors``."""
+        return tuple(self._members(label) for label in self.factors)
 
     def total_index(self, output: str) -> dict[str, float]:
-        """Total index per input name (a group's index is given to each of its members)."""
+        """Total index per input name, for display beside an input (a group's index is
+        shown beside each of its members; rank with :meth:`ranking`, not with this)."""
         res = self.sobol[output]
         out = {}
         for label, st in zip(res.factors, np.asarray(res.total, dtype=float)):
-            members = self._members(label)
-            for m in members:
+            for m in self._members(label):
                 out[m] = float(st)
         return out
+
+    def ranking(self, output: str = "failure", tiebreak: str = "range_km"):
+        """Factors ranked by the total index of ``output``, each with its interval.
+
+        Returns
+        -------
+        uq.estimators.sensitivity.FactorRanking
+        """
+        from uq.estimators import sensitivity as sens_est
+
+        res = self.sobol[output]
+        total_low = np.asarray(res.total_interval.low, dtype=float)
+        total_high = np.asarray(res.total_interval.high, dtype=float)
+        if self.indicator_bounds is not None and output in self.indicator_bounds:
+            lo, hi = self.indicator_bounds[output]
+            total_low, total_high = np.minimum(total_low, lo), np.maximum(total_high, hi)
+        first, total = np.asarray(res.first, float), np.asarray(res.total, float)
+        return sens_est.rank_factors(
+            self.factors, self.members, first,
+            np.minimum(res.first_interval.low, first), np.maximum(res.first_interval.high, first),
+            total, np.minimum(total_low, total), np.maximum(total_high, total),
+            base_n=self.base_n, output=output,
+            tiebreak=np.asarray(self.sobol[tiebreak].total, float) if tiebreak else None)
 
     def _members(self, label: str) -> tuple[str, ...]:
         if self.groups is None:
@@ -301,19 +330,13 @@ class Sensitivity:
         return (label,)
 
 
-def _evaluate_rows(scenario: Scenario, x: np.ndarray, block: int = 2**14) -> dict:
-    model = ScenarioModel(scenario)
-    parts = [model(x[i:i + block]) for i in range(0, x.shape[0], block)]
-    return {k: np.concatenate([p[k] for p in parts]) for k in parts[0]}
-
-
 def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Propagation,
-                         *, seed: np.random.SeedSequence) -> Sensitivity | None:
-    """Saltelli/SALib indices of the outputs and the PCE of the margin."""
+                         *, seed: np.random.SeedSequence, executor=None) -> Sensitivity | None:
+    """Saltelli indices of the outputs (streamed through the engine) and the PCE of the margin."""
     d = len(scenario.inputs)
     if d == 0 or settings.sensitivity_base_n <= 0:
         return None
-    from uq.estimators import pce as pce_module
+    from uq.estimators import sensitivity as sens_est
     from uq.estimators import sobol as sa
 
     input_model = input_model_of(scenario)
@@ -326,8 +349,10 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
         seed=int(design_seed.generate_state(1)[0]),
         groups=group_list if grouped else None,
     )
-    x = input_model.transform(np.asarray(design.unit_points))
-    out = _evaluate_rows(scenario, x)
+    out = sens_est.evaluate_saltelli(
+        design, ScenarioModel(scenario), ("range_km", "duration_days", "margin_Wh", "success"),
+        input_model=input_model, executor=executor, chunk_blocks=settings.chunk_blocks,
+        block_size=min(settings.block_size, 4096))
     outputs = {
         "range_km": out["range_km"],
         "duration_days": out["duration_days"],
@@ -336,73 +361,56 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
     }
     sobol = sa.sobol_indices(design, outputs, confidence=settings.confidence,
                              seed=int(boot_seed.generate_state(1)[0]))
-    notes = []
-    pce = pce_indices = None
-    space = "physical inputs"
-    if settings.polynomial_chaos:
-        n_fit = min(propagation.samples, 2048)
-        y = propagation.outcomes["margin_Wh"][:n_fit]
-        if input_model.is_independent:
-            dists = [m.to_chaospy() for m in scenario.inputs]
-            xs = propagation.inputs[:n_fit]
-        else:
-            import chaospy
-
-            space = "independent unit variables"
-            dists = [chaospy.Uniform(0.0, 1.0) for _ in names]
-            xs = np.concatenate([dz.unit_points() for dz in propagation.designs])[:n_fit, :d]
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", pce_module.PolynomialChaosQualityWarning)
-            pce = pce_module.fit_polynomial_chaos(
-                dists, xs, y, max_degree=3 if d > 10 else 5, seed=int(pce_seed.generate_state(1)[0]),
-                names=names)
-        pce_indices = pce.sobol_indices()
-        if grouped:
-            pce_indices = _grouped_pce_indices(pce, pce_indices, names, group_list)
-            space = "independent unit variables; correlated inputs by group"
-        if pce.quality != "good":
-            notes.append(
-                f"The polynomial chaos surrogate of the energy margin is poor (LOO error "
-                f"{pce.loo_error:.3f}, holdout Q2 {pce.q2_holdout:.3f}); its indices are shown "
-                "for reference only - rely on the Saltelli estimates.")
+    bounds = {"failure": sens_est.indicator_total_bounds(outputs["failure"], design.n_factors,
+                                                         confidence=settings.confidence)}
+    pce_part = _margin_surrogate(scenario, settings, propagation, input_model, group_list,
+                                 seed=pce_seed) if settings.polynomial_chaos else {}
     return Sensitivity(
         sobol=sobol, factors=tuple(sobol["range_km"].factors),
         groups=tuple(group_list) if grouped else None, base_n=settings.sensitivity_base_n,
-        runs=design.n_runs, pce=pce, pce_indices=pce_indices, pce_space=space,
-        notes=tuple(notes),
-    )
+        runs=design.n_runs, indicator_bounds=bounds,
+        **({"pce": None, "pce_indices": None, "pce_space": "physical inputs"} | pce_part))
 
 
-def _grouped_pce_indices(pce, indices, names, groups):
-    """Sobol indices of correlated groups from the PCE coefficients (Sudret 2008).
+def _margin_surrogate(scenario, settings, propagation, input_model, group_list, *, seed) -> dict:
+    """PCE of the energy margin with per-factor indices and their bootstrap intervals."""
+    from uq.estimators import pce as pce_module
+    from uq.estimators import sensitivity as sens_est
 
-    In the independent unit space a correlated pair's split between its members depends on
-    the Cholesky order, so only the group's indices mean something: first = terms whose
-    variables all lie in the group, total = terms touching it. Each member carries its
-    group's values (the convention of the Saltelli group indices).
-    """
-    from uq.estimators.pce import PolynomialChaosIndices
+    names, d = scenario.input_names, len(scenario.inputs)
+    grouped = any(len(g) > 1 for g in group_list)
+    boot_seed = seed.spawn(1)[0]
+    n_fit = min(propagation.samples, 2048)
+    y = propagation.outcomes["margin_Wh"][:n_fit]
+    space = "physical inputs"
+    if input_model.is_independent:
+        dists = [m.to_chaospy() for m in scenario.inputs]
+        xs = propagation.inputs[:n_fit]
+    else:
+        import chaospy
 
-    alpha = np.asarray(pce.multi_indices) > 0
-    c2 = np.asarray(pce.coefficients, dtype=float) ** 2
-    nonconstant = alpha.any(axis=1)
-    variance = float(c2[nonconstant].sum())
-    column = {n: i for i, n in enumerate(names)}
-    first = np.asarray(indices.first, dtype=float).copy()
-    total = np.asarray(indices.total, dtype=float).copy()
-    for g in groups:
-        if len(g) < 2 or variance <= 0:
-            continue
-        cols = [column[m] for m in g]
-        inside = alpha[:, cols].any(axis=1)
-        only = nonconstant & ~np.delete(alpha, cols, axis=1).any(axis=1)
-        for m in cols:
-            first[m] = float(c2[only].sum() / variance)
-            total[m] = float(c2[inside].sum() / variance)
-    return PolynomialChaosIndices(names=tuple(names), first=first, total=total,
-                                  second=np.zeros((len(names), len(names))),
-                                  variance=indices.variance, status=indices.status,
-                                  quality=indices.quality)
+        space = "independent unit variables; correlated inputs by group"
+        dists = [chaospy.Uniform(0.0, 1.0) for _ in names]
+        xs = np.concatenate([dz.unit_points() for dz in propagation.designs])[:n_fit, :d]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", pce_module.PolynomialChaosQualityWarning)
+        pce = pce_module.fit_polynomial_chaos(
+            dists, xs, y, max_degree=3 if d > 10 else 5,
+            seed=int(seed.generate_state(1)[0]), names=names)
+    factors = sens_est.pce_group_indices(
+        pce, xs, y, group_list, confidence=settings.confidence, n_bootstrap=100,
+        rng=np.random.default_rng(boot_seed))
+    indices = pce.sobol_indices()
+    if grouped:
+        indices = sens_est.members_show_group(indices, factors)
+    notes = []
+    if pce.quality != "good":
+        notes.append(
+            f"The polynomial chaos surrogate of the energy margin is poor (LOO error "
+            f"{pce.loo_error:.3f}, holdout Q2 {pce.q2_holdout:.3f}); its indices are shown "
+            "for reference only - rely on the Saltelli estimates.")
+    return {"pce": pce, "pce_indices": indices, "pce_space": space, "pce_factors": factors,
+            "notes": tuple(notes)}
 
 
 @dataclass(frozen=True)
@@ -431,6 +439,8 @@ class Assessment:
     recovery: decisions.RecoveryWindowBooking | None = None
     #: what the pilot did (gliders): re-trims, drifting, surfacings
     flight: decisions.PilotActions | None = None
+    #: the sequential rule behind the P(success) interval: rule, max_looks, looks_taken, ...
+    sequential: dict = field(default_factory=dict)
 
     @property
     def p_success(self) -> estimators.IntervalEstimate:
@@ -461,15 +471,41 @@ class Assessment:
                 f"{html.escape(self.verdict.sentence)}<table>{body}</table></div>")
 
     def sensitivity_ranking(self) -> list[dict]:
-        """Inputs ranked by total index of the failure indicator (then of range)."""
+        """Factors (inputs or correlated groups, one row each) ranked by the total index of
+        the failure indicator (then of range), each index with its interval.
+
+        Each row keeps the keys ``input`` (the factor label), ``total_index_failure`` and
+        ``total_index_range``, and adds ``members``, the first and total indices of failure
+        with their bounds, the total index of range with its bounds, and
+        ``resolved_from_next`` (False where this row's interval overlaps the next one's).
+        """
         if self.sensitivity is None:
             return []
-        fail = self.sensitivity.total_index("failure")
-        rng_ = self.sensitivity.total_index("range_km")
-        rows = [{"input": n, "total_index_failure": fail.get(n, 0.0),
-                 "total_index_range": rng_.get(n, 0.0)} for n in self.scenario.input_names]
-        rows.sort(key=lambda r: (-r["total_index_failure"], -r["total_index_range"]))
+        ranking = self.sensitivity.ranking("failure", tiebreak="range_km")
+        rng_ = self.sensitivity.sobol["range_km"]
+        at = {f: i for i, f in enumerate(rng_.factors)}
+        rows = []
+        for r in ranking.rows:
+            k = at[r.factor]
+            rows.append({
+                "input": r.factor, "members": list(r.members),
+                "total_index_failure": r.total, "total_index_failure_low": r.total_low,
+                "total_index_failure_high": r.total_high,
+                "first_index_failure": r.first, "first_index_failure_low": r.first_low,
+                "first_index_failure_high": r.first_high,
+                "total_index_range": float(rng_.total[k]),
+                "total_index_range_low": float(min(rng_.total_interval.low[k], rng_.total[k])),
+                "total_index_range_high": float(max(rng_.total_interval.high[k], rng_.total[k])),
+                "resolved_from_next": r.resolved_from_next,
+            })
         return rows
+
+    def sensitivity_order(self):
+        """Whether the ranking's order is resolved, the suggested base N and the sentence
+        (:class:`uq.estimators.sensitivity.FactorRanking`), or None without the stage."""
+        if self.sensitivity is None:
+            return None
+        return self.sensitivity.ranking("failure", tiebreak="range_km")
 
 
 def package_versions() -> dict[str, str]:
@@ -500,7 +536,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
 
     With ``target_half_width`` the propagation doubles its sample size until the half-width
     of the P(success) interval is at most that (e.g. 0.01) or ``max_samples`` is reached; the
-    sizes tried and their half-widths are in ``Assessment.convergence``.
+    sizes tried and their half-widths are in ``Assessment.convergence``. Those doublings are
+    repeated looks at one question, so the number of looks is declared before the first and
+    each look's interval is widened by the sequential rule (``Assessment.sequential`` and a
+    caution name the rule and the looks taken); the verdict keeps its nominal false-GO rate.
     ``progress(stage, done, total)`` is called as the stages advance (for a progress bar).
     """
     settings = _settings(scenario, samples=samples, seed=seed, scheme=scheme,
@@ -516,22 +555,16 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     with warnings.catch_warnings(record=True) as caught, pool as executor:
         warnings.simplefilter("always")
         t0 = time.perf_counter()
-        convergence = []
-        while True:
-            prop = propagate(
-                scenario, settings, executor=executor,
-                progress=(lambda rows, _n=settings.samples: progress("propagation", rows, _n))
-                if progress else None)
-            convergence.append((prop.samples, prop.p_success.half_width))
-            if (target_half_width is None or prop.p_success.half_width <= target_half_width
-                    or settings.samples * 2 > max_samples):
-                break
-            settings = dataclasses.replace(settings, samples=settings.samples * 2)
+        prop, settings, sequential = _propagate_to_target(
+            scenario, settings, executor=executor, target_half_width=target_half_width,
+            max_samples=max_samples, progress=progress)
+        convergence = [(n, est.half_width) for n, est in sequential.history]
         timings["propagation"] = time.perf_counter() - t0
         if progress:
             progress("sensitivity", 0, 1)
         t0 = time.perf_counter()
-        sens = sensitivity_analysis(scenario, settings, prop, seed=stage_seeds[0])
+        sens = sensitivity_analysis(scenario, settings, prop, seed=stage_seeds[0],
+                                    executor=executor)
         timings["sensitivity"] = time.perf_counter() - t0
         if progress:
             progress("sensitivity", 1, 1)
@@ -557,6 +590,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             "scramblings; the range-curve bands, quantile intervals and failure shares treat "
             "the pooled scrambled points as independent samples, which is conservative for "
             "randomised quasi-Monte Carlo.")
+    if sequential.rule.max_looks > 1:
+        cautions.append(sequential.rule.describe(sequential.looks))
     if target_half_width is not None and convergence[-1][1] > target_half_width:
         cautions.append(
             f"The P(success) half-width target {target_half_width:g} was not reached within "
@@ -566,7 +601,40 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     return Assessment(
         scenario=scenario, settings=settings, propagation=prop, sensitivity=sens,
         nominal=base, cautions=tuple(cautions), timings_s=timings,
-        versions=package_versions(), convergence=tuple(convergence), **parts)
+        versions=package_versions(), convergence=tuple(convergence),
+        sequential=sequential.rule.to_dict(sequential.looks), **parts)
+
+
+def _propagate_to_target(scenario, settings: Settings, *, executor, target_half_width,
+                         max_samples: int, progress):
+    """One propagation, or (with a half-width target) doublings under the sequential rule.
+
+    With ``target_half_width`` the maximum number of looks (doublings up to
+    ``max_samples``) is declared before the first one and every look's P(success) interval
+    is computed at the rule's per-look confidence (:func:`uq.estimators.grow_until`), so the
+    interval at whichever look stops keeps its nominal coverage.
+    """
+    last = {}
+
+    def run(n: int, confidence: float):
+        current = dataclasses.replace(settings, samples=n, max_looks=looks)
+        prop = propagate(
+            scenario, current, executor=executor,
+            progress=(lambda rows, _n=n: progress("propagation", rows, _n)) if progress else None)
+        last.update(prop=prop, settings=current)
+        return prop.p_success
+
+    if target_half_width is None:
+        looks = 1
+        start = end = settings.samples
+        target = float("inf")
+    else:
+        start, end = settings.samples, max(int(max_samples), settings.samples)
+        looks = estimators.planned_looks(start, end)
+        target = float(target_half_width)
+    result = estimators.grow_until(run, target_half_width=target, n_start=start, n_max=end,
+                                   confidence=settings.confidence)
+    return last["prop"], last["settings"], result
 
 
 def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
@@ -575,9 +643,7 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
     conf = settings.confidence
     out = prop.outcomes
     p = prop.p_success
-    verdict = decisions.go_no_go(p.lower, p.upper, p.estimate,
-                                 required_probability=dec.required_probability,
-                                 confidence=conf, samples=prop.samples)
+    verdict = decisions.verdict_for(p, required_probability=dec.required_probability)
     failures = decisions.failure_breakdown(
         out["failure_mode"], out["failing_leg"],
         mode_names={int(k): v for k, v in FAILURE_MODE_NAMES.items()},

@@ -291,23 +291,13 @@ def _jsonable(x: Any) -> Any:
 
 
 def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
-    k = sum(c for c, _ in counts)
-    n = sum(m for _, m in counts)
-    fractions = tuple(c / m for c, m in counts)
-    if scheme == "sobol" and len(counts) >= 2:
-        est = estimators.replicate_interval(fractions, confidence=confidence)
-        lo, hi = max(0.0, est.lower), min(1.0, est.upper)
-        mid = min(max(est.estimate, lo), hi)
-        return estimators.IntervalEstimate(mid, lo, hi, confidence, est.method, n), fractions
-    return estimators.proportion_interval(k, n, confidence=confidence), fractions
+    est = estimators.success_probability(counts, randomised=scheme == "sobol",
+                                         confidence=confidence)
+    return est, est.replicate_fractions
 
 
 def _mean(sums: list, scheme: str, confidence: float) -> estimators.IntervalEstimate:
-    if scheme == "sobol" and len(sums) >= 2:
-        return estimators.replicate_interval([s.mean for s in sums], confidence=confidence)
-    total = sums[0]  # one plan outside RQMC
-    return estimators.mean_interval_from_moments(total.n, total.mean, total.sd,
-                                                 confidence=confidence)
+    return estimators.replicated_mean(sums, randomised=scheme == "sobol", confidence=confidence)
 
 
 def _spearman_ranking(names: Sequence[str], inputs: np.ndarray, margin: np.ndarray):
@@ -428,9 +418,7 @@ def _summarise(variant: Variant, parts: list[dict], scheme: str, scenario: Scena
     conf = dec.confidence
     p, fractions = _proportion([(q["success"].count, q["success"].n) for q in parts], scheme, conf)
     n = p.n
-    verdict = decisions.go_no_go(p.lower, p.upper, p.estimate,
-                                 required_probability=dec.required_probability,
-                                 confidence=conf, samples=n)
+    verdict = decisions.verdict_for(p, required_probability=dec.required_probability)
     durations = np.concatenate([q["arrival"]["duration_days"] for q in parts])
     reached = np.concatenate([q["arrival"]["reached"] for q in parts]).astype(bool)
     base = nominal(scenario)

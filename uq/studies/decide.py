@@ -57,10 +57,9 @@ def rank_scenario_tests(scenario, prop, sens, band, verdict, conf, *, seed):
     if sens is not None:
         # a correlated group's total index is shared out among its members, so that a test
         # pinning the whole group is credited with it once (the fallback ranking adds them)
-        total = sens.total_index("failure")
-        for g in sens.groups or ():
-            for m in g:
-                total[m] = total[m] / len(g)
+        from uq.estimators.sensitivity import share_group_totals
+
+        total = share_group_totals(sens.members, sens.sobol["failure"].total)
     nb = None
     if None not in (dec.value_of_success, dec.cost_of_failure):
         nb = decisions.money_net_benefit(

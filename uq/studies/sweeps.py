@@ -19,7 +19,7 @@ from scipy import stats
 
 from uq import decisions
 from uq.sampling.inputs import InputModel, ScipyMarginal
-from uq.sampling.plans import SampleDesign
+from uq.sampling.plans import SampleDesign, plan_size
 from uq.scenario import Scenario
 from uq.simulate import ScenarioModel, deterministic_optimum, nominal
 
@@ -157,8 +157,7 @@ def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
     if not values:
         raise StudyError("a sweep needs at least one setpoint value")
     samples = int(samples or scenario.analysis.samples)
-    if scheme == "sobol":
-        samples = 1 << int(round(np.log2(max(samples, 2))))
+    samples = plan_size(samples, scheme=scheme)[1]
     seed = int(scenario.analysis.seed if seed is None else seed)
     variants = [with_setpoint(scenario, field, v) for v in values]
     outs = evaluate_on_shared_samples(variants, samples=samples, seed=seed, scheme=scheme)
@@ -196,8 +195,7 @@ def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
                       seed: int | None = None, scheme: str = "sobol") -> ComparisonResult:
     """Paired comparison of two configurations on shared samples of their common inputs."""
     samples = int(samples or a.analysis.samples)
-    if scheme == "sobol":
-        samples = 1 << int(round(np.log2(max(samples, 2))))
+    samples = plan_size(samples, scheme=scheme)[1]
     seed = int(a.analysis.seed if seed is None else seed)
     out_a, out_b = evaluate_on_shared_samples([a, b], samples=samples, seed=seed, scheme=scheme)
     names = (a.name, b.name) if a.name != b.name else (f"{a.name} (A)", f"{b.name} (B)")

@@ -294,7 +294,7 @@ def test_quantile_from_counts_outside_edges_is_unbounded():
 
 
 # ---------------------------------------------------------------------- convergence
-def _fake(n):
+def _fake(n, confidence=0.95):
     # half width 1/sqrt(n) exactly (derived for the check below)
     return IntervalEstimate(0.5, 0.5 - n**-0.5, 0.5 + n**-0.5, 0.95, "fake", n)
 
@@ -309,13 +309,16 @@ def test_grow_until_doubles_to_target():
 
 
 def test_grow_until_with_a_real_proportion_run():
-    # P(U < 0.2) = 0.2 (derived); Wilson half width ~ 1.96 sqrt(0.16/n) <= 0.01 needs
-    # n >= 6147 -> the doubling from 1024 stops at 8192.
-    def run(n):
+    # P(U < 0.2) = 0.2 (derived). 1024 .. 65536 is 7 predeclared looks, so each look's
+    # interval is at 1 - 0.05/7 (Bonferroni), z = 2.689 (scipy.stats.norm.ppf(1 - 0.025/7));
+    # the Wilson half width ~ z sqrt(0.16/n) <= 0.01 needs n >= 11,570 -> the doubling from
+    # 1024 stops at 16384 (a single 95 % look would have stopped at 8192).
+    def run(n, confidence):
         count = stream(monte_carlo(n, 1, seed=n), lambda u: u[:, 0] < 0.2, CountReducer(None))
-        return proportion_interval(count.count, count.n)
+        return proportion_interval(count.count, count.n, confidence=confidence)
 
     result = grow_until(run, target_half_width=0.01, n_start=1024, n_max=2**16)
-    assert result.converged and result.n == 8192
+    assert result.converged and result.n == 16384
+    assert result.rule.max_looks == 7 and result.looks == 5
     with pytest.raises(EstimatorError, match="growth must be an integer >= 2"):
         grow_until(run, target_half_width=0.01, n_start=8, n_max=64, growth=1)

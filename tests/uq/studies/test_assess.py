@@ -85,7 +85,10 @@ def test_demo_assessment_is_finite_and_consistent(demo):
         assert np.isfinite(a.propagation.outcomes[key]).all()
     assert np.isfinite(a.propagation.range_curve.probability).all()
     ranking = a.sensitivity_ranking()
-    assert {r["input"] for r in ranking} == set(scenario.input_names)
+    # one row per factor: a correlated group is one row naming its members (issue 13)
+    assert {m for r in ranking for m in r["members"]} == set(scenario.input_names)
+    assert all(r["total_index_failure_low"] <= r["total_index_failure"]
+               <= r["total_index_failure_high"] for r in ranking)
     assert a.tests is not None and len(a.tests.rows) == len(scenario.decision.tests)
 
 
