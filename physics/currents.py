@@ -4,7 +4,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-__all__ = ["GroundTrack", "ground_track"]
+__all__ = ["GroundTrack", "ground_track", "TrackComponents", "track_components"]
 
 
 class GroundTrack(NamedTuple):
@@ -66,3 +66,47 @@ def ground_track(speed_through_water, current_along, current_across):
         crab_angle=crab,
         headway=headway,
     )
+
+
+class TrackComponents(NamedTuple):
+    """A horizontal current resolved on a track line.
+
+    Attributes
+    ----------
+    along : ndarray
+        Component along the track c_a [m/s], positive when following.
+    across : ndarray
+        Component across the track c_x [m/s], positive to starboard of the track direction.
+    """
+
+    along: np.ndarray
+    across: np.ndarray
+
+
+def track_components(eastward, northward, bearing_deg):
+    """Along- and across-track components of a current on a track of a given bearing.
+
+    Parameters
+    ----------
+    eastward : array_like
+        Eastward current v_E [m/s].
+    northward : array_like
+        Northward current v_N [m/s].
+    bearing_deg : array_like
+        Track bearing beta [deg], clockwise from true north (a geodesic's forward azimuth).
+
+    Returns
+    -------
+    TrackComponents
+        Arrays of the broadcast shape of the inputs.
+
+    Notes
+    -----
+    c_a = v_N cos(beta) + v_E sin(beta) and c_x = -v_N sin(beta) + v_E cos(beta): the
+    projection on the unit vector along the track (sin beta, cos beta) in (east, north) and
+    on the unit vector to its starboard (cos beta, -sin beta) (derived: a rotation of axes).
+    """
+    v_e, v_n, beta = np.broadcast_arrays(
+        *(np.asarray(x, dtype=float) for x in (eastward, northward, bearing_deg)))
+    b = np.deg2rad(beta)
+    return TrackComponents(v_n * np.cos(b) + v_e * np.sin(b), -v_n * np.sin(b) + v_e * np.cos(b))

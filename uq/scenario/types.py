@@ -199,6 +199,10 @@ class Scenario:
     inputs: tuple["Marginal", ...] = ()  # every uncertain field, file order
     source_path: str | None = None
     source_sha256: str | None = None
+    # a waypoint route and the data behind its leg fields (uq.scenario.environment):
+    route: tuple = ()  # RouteLeg per leg (geodesic geometry), empty for leg-length routes
+    environment: tuple = ()  # FieldSource per data-derived leg field: file, window, method
+    data_correlations: tuple = ()  # DataCorrelation: rank correlations estimated from data
 
     @property
     def input_names(self) -> tuple[str, ...]:
