@@ -16,8 +16,10 @@ from . import (
     lift,
     mission,
     propulsion,
+    reliability,
     seawater,
     states,
+    turnback,
 )
 
 __all__ = [
@@ -30,6 +32,8 @@ __all__ = [
     "lift",
     "mission",
     "propulsion",
+    "reliability",
     "seawater",
     "states",
+    "turnback",
 ]

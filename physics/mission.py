@@ -56,6 +56,7 @@ __all__ = [
     "GliderRates",
     "BatteryState",
     "TransitOutcome",
+    "RouteProfile",
     "fly_route",
 ]
 
@@ -90,8 +91,8 @@ class PropellerRates:
     Parameters (arrays broadcastable to (n, J) or (n,))
     ----------
     clean_drag : hull drag of the clean vehicle on each leg at the setpoint [N], (n, J)
-    speed : speed through water [m/s], (n,)
-    propulsive_efficiency : overall propulsive efficiency (0, 1], (n,)
+    speed : speed through water [m/s], (n,) or per leg (n, J)
+    propulsive_efficiency : overall propulsive efficiency (0, 1], (n,) or per leg (n, J)
     hotel_load : hotel load on each leg [W], (n, J)
     drag_increase : fractional drag increase at full fouling [-], (n,)
     """
@@ -104,8 +105,12 @@ class PropellerRates:
 
     def __call__(self, leg: int, phi: np.ndarray) -> VehicleRates:
         drag = self.clean_drag[:, leg] * _drag.fouling_drag_multiplier(phi, self.drag_increase)
-        power = drag * self.speed / self.propulsive_efficiency + self.hotel_load[:, leg]
-        speed = np.broadcast_to(self.speed, power.shape)
+        speed = self.speed if np.ndim(self.speed) < 2 else self.speed[:, leg]
+        efficiency = self.propulsive_efficiency
+        if np.ndim(efficiency) >= 2:  # per leg, e.g. from an efficiency curve over speed
+            efficiency = efficiency[:, leg]
+        power = drag * speed / efficiency + self.hotel_load[:, leg]
+        speed = np.broadcast_to(speed, power.shape)
         state = np.zeros(power.shape, dtype=np.int8)
         return VehicleRates(power, speed, state)
 
@@ -186,6 +191,13 @@ class BatteryState:
         )
         return _battery.energy_above_reserve(usable, self.reserve_fraction)
 
+    def usable(self, elapsed: np.ndarray) -> np.ndarray:
+        """Energy the pack can deliver at all (reserve included) at elapsed time t [J]."""
+        return _battery.usable_energy(
+            self.nominal_energy, cold_derating=self.cold_derating, fade_rate=self.fade_rate,
+            elapsed=elapsed, usable_fraction=self.usable_fraction,
+        )
+
     def drawable_rate(self, elapsed: np.ndarray) -> np.ndarray:
         """d/dt of :meth:`drawable` [W]: linear fade, zero once the pack is faded out."""
         slope = -(1.0 - self.reserve_fraction) * self.nominal_energy * self.cold_derating \
@@ -209,6 +221,21 @@ class TransitOutcome(NamedTuple):
     energy_per_distance: np.ndarray  # (n, J) per leg [J/m]; NaN for legs never reached
     route_energy_per_distance: np.ndarray  # energy drawn / distance flown on the route [J/m]
     route_length: np.ndarray  # [m]
+    profile: "RouteProfile | None" = None  # state at every step boundary on the route
+
+
+class RouteProfile(NamedTuple):
+    """State of every sample at each RK4 step boundary on the route, shape (n, K).
+
+    K = J * steps_per_leg + 1; column 0 is the departure, column ``j * steps_per_leg + s`` the
+    end of sub-step s of leg j. A stopped sample keeps its stop state in later columns.
+    """
+
+    position: np.ndarray  # distance made good along the route [m]
+    elapsed: np.ndarray  # [s]
+    energy: np.ndarray  # energy drawn from the pack [J]
+    fouling: np.ndarray  # fouling state phi [-]
+    leg: np.ndarray  # (K,) int: leg of the step that ends at each column (0 for column 0)
 
 
 def fly_route(
@@ -226,6 +253,8 @@ def fly_route(
     extension: float = 0.5,
     extension_steps: int = 16,
     min_ground_speed: float = 0.01,
+    distance_overhead: np.ndarray | float = 0.0,
+    capacity_factor: np.ndarray | float = 1.0,
 ) -> TransitOutcome:
     """Fly every sample along the route and return its range, arrival and failure mode.
 
@@ -255,6 +284,14 @@ def fly_route(
         Ground speed [m/s] below which the vehicle is taken to have no headway (default
         1 cm/s, under 1 km a day: a vehicle crawling slower is lost to the mission; a
         modelling choice, common practice, no source). 0 gives the bare u_g <= 0 rule.
+    distance_overhead : array_like, (n, J), optional
+        Extra distance flown per metre made good on each leg f [-] (dead reckoning under
+        ice): time and energy per metre of route are multiplied by (1 + f).
+    capacity_factor : array_like, (n, J), optional
+        Share of its rated capacity the pack delivers at each leg's cell temperature c [-]
+        (:func:`physics.battery.capacity_fraction`): energy drawn on the leg is counted
+        against the rated capacity as E / c, so margins and energies per distance are in
+        rated-capacity joules. 1 everywhere reproduces a temperature-blind budget.
 
     Returns
     -------
@@ -269,6 +306,10 @@ def fly_route(
     onset = np.broadcast_to(np.asarray(fouling_onset, dtype=float), (n,))
     tau = np.broadcast_to(np.asarray(fouling_time_constant, dtype=float), (n,))
     t_limit = np.broadcast_to(np.asarray(max_duration, dtype=float), (n,))
+    # per metre of route: (1 + f) metres flown; energy counted against rated capacity as E / c
+    path = 1.0 + np.broadcast_to(np.asarray(distance_overhead, dtype=float), shape)
+    charge = np.broadcast_to(np.asarray(capacity_factor, dtype=float), shape)
+    trace = []
 
     route = leg_length.sum(axis=1)
     x = np.zeros(n)
@@ -296,9 +337,10 @@ def fly_route(
         track = _currents.ground_track(r.speed_through_water, c_along[:, leg], c_across[:, leg])
         code = _stop_code(r.state, track, min_ground_speed)
         ug = np.where(code == FailureMode.NONE, track.ground_speed, 1.0)
-        return 1.0 / ug, r.power / ug, code
+        per_metre = path[:, leg] / ug
+        return per_metre, r.power / charge[:, leg] * per_metre, code
 
-    def one_leg(leg, h, n_steps, t_entry, clock_entry):
+    def one_leg(leg, h, n_steps, t_entry, clock_entry, record=False):
         nonlocal x, t, energy
         k1t, k1e, code1 = derivatives(leg, t, t_entry, clock_entry)
         for _ in range(n_steps):
@@ -324,6 +366,10 @@ def fly_route(
             leg_distance[:, leg] += x - x0
             moving[:] = ok
             k1t, k1e, code1 = k5t, k5e, code5
+            if record:
+                c = clock_entry + growth[:, leg] * (t - t_entry)
+                trace.append((x.copy(), t.copy(), energy.copy(),
+                              _fouling.fouling_state(c, onset, tau), leg))
 
     def _stop_inside_step(leg, bad, h, x0, t0, e0, code1, stage_t, stage_code, t_entry,
                           clock_entry):
@@ -401,7 +447,8 @@ def fly_route(
             r = self.rates_model(leg, _fouling.fouling_state(c, onset[i], tau[i]))
             track = _currents.ground_track(r.speed_through_water, c_along[i, leg],
                                            c_across[i, leg])
-            return r.power, track.ground_speed, _stop_code(r.state, track, min_ground_speed)
+            code = _stop_code(r.state, track, min_ground_speed)
+            return r.power / charge[i, leg], track.ground_speed / path[i, leg], code
 
         def integrate(self, ta, tb):
             """Distance and energy from ta to tb: 8-point Gauss-Legendre in time."""
@@ -450,12 +497,13 @@ def fly_route(
     range_leg[empty] = 0
 
     # --- the legs -------------------------------------------------------------------------
+    trace.append((x.copy(), t.copy(), energy.copy(), _fouling.fouling_state(clock, onset, tau), 0))
     for leg in range(n_legs):
         reached[:, leg] = moving
         t_entry = t.copy()
         clock_entry = clock.copy()
         h = leg_length[:, leg] / steps_per_leg
-        one_leg(leg, h, steps_per_leg, t_entry, clock_entry)
+        one_leg(leg, h, steps_per_leg, t_entry, clock_entry, record=True)
         clock = clock_entry + growth[:, leg] * (t - t_entry)
 
     arrived = moving.copy()
@@ -525,6 +573,8 @@ def fly_route(
         energy_per_distance=per_distance,
         route_energy_per_distance=route_per_distance,
         route_length=route,
+        profile=RouteProfile(*(np.column_stack(column) for column in list(zip(*trace))[:4]),
+                             leg=np.array([item[4] for item in trace], dtype=int)),
     )
 
 

@@ -270,3 +270,30 @@ def test_a_crawl_below_the_minimum_ground_speed_is_no_headway():
                      fouling_growth_factor=np.ones((1, 1)), fouling_onset=np.zeros(1),
                      fouling_time_constant=np.full(1, np.inf), min_ground_speed=0.0)
     assert bare.arrived[0] and bare.duration[0] > 200 * DAY  # the bare u_g > 0 rule crawls
+
+
+def test_per_leg_speeds_energy_per_distance_closed_form():
+    # derived (MODEL.md s5): level flight at speed U_j, drag D_j = 1/2 rho U_j^2 C_D A, so
+    # energy per metre = D_j / eta_j + P_hotel / U_j on each leg (no current, no fouling).
+    speeds = np.array([1.0, 1.4, 1.8])
+    drag = 0.5 * 1026.0 * speeds**2 * 0.004 * 2.0
+    eta = np.array([0.33, 0.38, 0.41])
+    rates = PropellerRates(
+        clean_drag=np.tile(drag, (2, 1)), speed=np.tile(speeds, (2, 1)),
+        propulsive_efficiency=np.tile(eta, (2, 1)), hotel_load=np.full((2, 3), 40.0),
+        drag_increase=np.zeros(2))
+    out = _fly(rates, _battery(2, 1e9), 10e3)
+    expected = drag / eta + 40.0 / speeds
+    np.testing.assert_allclose(out.energy_per_distance, np.tile(expected, (2, 1)), rtol=1e-12)
+    np.testing.assert_allclose(out.duration, (10e3 / speeds).sum(), rtol=1e-12)
+
+
+def test_route_profile_records_every_step_boundary():
+    # derived: constant rates, 2 legs of 8 steps -> 17 columns, energy linear in distance
+    out = _fly(_propeller(1, 2), _battery(1, 1e9), 8e3)
+    prof = out.profile
+    assert prof.position.shape == (1, 17)
+    np.testing.assert_allclose(prof.position[0], np.linspace(0.0, 16e3, 17), rtol=1e-12)
+    power = 20.0 * 1.5 / 0.4 + 30.0
+    np.testing.assert_allclose(prof.energy[0], prof.position[0] * power / 1.5, rtol=1e-12)
+    assert prof.leg.tolist() == [0] + [0] * 8 + [1] * 8

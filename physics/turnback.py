@@ -1,0 +1,392 @@
+"""Under an ice ceiling: point of no return, the turn-back policy, the recovery-point demand.
+
+Under ice a vehicle cannot surface. Where it can still fly back to the last safe exit behind it
+(an ice edge at a leg boundary, or open water) with its reserve intact, an abort is safe; past
+the point of no return it must reach the recovery point or be lost. This module reads the route
+profile that :func:`physics.mission.fly_route` records and decides, sample by sample:
+
+- the point of no return x*: the first position on an ice leg where the energy above the
+  reserve E(x) no longer covers the return E_back(x) to the last safe exit x_s, flown against
+  the reversed along-track currents at the fouling state of x;
+- under the policy ``"turn-back"``, whether the vehicle turns back at x*: it does when its
+  onboard forecast at x* (energy drawn so far per metre made good, extrapolated to the
+  recovery point, plus the demand at the recovery point) says it would arrive below its
+  reserve; a vehicle stopped by a current under ice before x* turns back where it stopped;
+- the demand at the recovery point: loiter (waiting for the ship or an open hole) and homing or
+  search at the hole, which the vehicle must afford before it is recovered.
+
+Nothing here integrates the transit again: the forward flight is :func:`fly_route`'s.
+"""
+from __future__ import annotations
+
+import dataclasses
+from typing import NamedTuple
+
+import numpy as np
+
+from physics import currents as _currents
+from physics import reliability as _reliability
+from physics.mission import BatteryState, RateModel, TransitOutcome
+from physics.states import FailureMode
+
+__all__ = [
+    "POLICIES",
+    "UnderIceOutcome",
+    "FaultSplit",
+    "last_safe_exit",
+    "arrival_demand",
+    "under_ice_outcome",
+    "fault_split",
+]
+
+#: what the vehicle does where it cannot both reach the goal and still return
+POLICIES = ("continue", "turn-back")
+
+
+class UnderIceOutcome(NamedTuple):
+    """Per-sample results of :func:`under_ice_outcome` (SI units, shape (n,) unless noted)."""
+
+    point_of_no_return: np.ndarray  # first x* on an ice leg [m]; inf: none before the goal
+    turned_back: np.ndarray  # bool: aborted and flew back to a safe exit
+    turn_position: np.ndarray  # where it turned back [m]; inf where it did not
+    return_energy: np.ndarray  # energy of the return flight [J] (0 where not turned)
+    return_duration: np.ndarray  # [s] (0 where not turned)
+    arrival_energy: np.ndarray  # loiter + homing demand at the recovery point [J]
+    arrival_duration: np.ndarray  # loiter + homing time [s]
+    margin: np.ndarray  # energy above the reserve after the recovery-point demand [J]
+    success: np.ndarray  # bool: transit success that also affords loiter and homing
+    reaches_recovery: np.ndarray  # bool: recovered at the goal, possibly on the reserve
+    lost_under_ice: np.ndarray  # bool: neither recovered nor returned, ends on an ice leg
+    mission_end: np.ndarray  # time the mission ends (recovery, return, stop) [s]
+    boundary_time: np.ndarray  # (n, J+1) time at each leg boundary on the way out [s]
+
+
+class FaultSplit(NamedTuple):
+    """Per-sample probabilities of the first hardware fault (they sum to 1)."""
+
+    no_fault: np.ndarray  # P(no fault before the mission ends) [-]
+    under_ice: np.ndarray  # P(first fault while under ice): the vehicle is lost [-]
+    open_water: np.ndarray  # P(first fault in open water): the vehicle is recovered [-]
+
+
+def last_safe_exit(ice, safe_boundary=None):
+    """Index of the last safe leg boundary at or behind the start of each leg.
+
+    Parameters
+    ----------
+    ice : array_like of bool, (J,)
+        True for legs under an ice ceiling.
+    safe_boundary : array_like of bool, (J+1,), optional
+        Leg boundaries named as safe exits (e.g. an ice edge). The launch (boundary 0) and
+        every boundary touching an open-water leg are always safe.
+
+    Returns
+    -------
+    ndarray of int, (J,)
+        For an ice leg j, the largest safe boundary b <= j; for an open-water leg, j itself.
+    """
+    ice = np.asarray(ice, dtype=bool)
+    n_legs = ice.size
+    safe = np.zeros(n_legs + 1, dtype=bool) if safe_boundary is None else \
+        np.asarray(safe_boundary, dtype=bool).copy()
+    if safe.shape != (n_legs + 1,):
+        raise ValueError(f"safe_boundary needs {n_legs + 1} entries (one per leg boundary), "
+                         f"got {safe.shape}")
+    safe[0] = True
+    safe[:-1] |= ~ice
+    safe[1:] |= ~ice
+    out = np.empty(n_legs, dtype=int)
+    for j in range(n_legs):
+        out[j] = max(b for b in range(j + 1) if safe[b])
+    return out
+
+
+def arrival_demand(loiter_power, loiter_time, homing_power, homing_speed, homing_distance,
+                   capacity_factor=1.0):
+    """Energy and time spent at the recovery point before the vehicle is recovered.
+
+    Parameters
+    ----------
+    loiter_power : array_like
+        Power while loitering (waiting for the ship or an open hole) P_l [W].
+    loiter_time : array_like
+        Loiter time T_l [s].
+    homing_power : array_like
+        Power while homing / searching at the recovery point P_h [W] (the transit power).
+    homing_speed : array_like
+        Speed through water while homing U_h [m/s], > 0.
+    homing_distance : array_like
+        Distance flown homing on the recovery point d_h [m].
+    capacity_factor : array_like, optional
+        Share of rated capacity the pack delivers at the recovery point's temperature c [-].
+
+    Returns
+    -------
+    energy : ndarray
+        E_arr = (P_l T_l + P_h d_h / U_h) / c [J, rated capacity].
+    duration : ndarray
+        T_l + d_h / U_h [s].
+    """
+    homing_time = np.asarray(homing_distance, dtype=float) / np.asarray(homing_speed, dtype=float)
+    drawn = (np.asarray(loiter_power, dtype=float) * np.asarray(loiter_time, dtype=float)
+             + np.asarray(homing_power, dtype=float) * homing_time)
+    return drawn / np.asarray(capacity_factor, dtype=float), \
+        np.asarray(loiter_time, dtype=float) + homing_time
+
+
+def _return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across, path, charge,
+                  min_ground_speed):
+    """Energy [J] and time [s] to fly back from every profile column to its last safe exit."""
+    x = profile.position
+    n, n_cols = x.shape
+    e_back = np.zeros((n, n_cols))
+    t_back = np.zeros((n, n_cols))
+    for k in range(n_cols):
+        leg = int(profile.leg[k])
+        if not ice[leg]:
+            continue
+        start = bounds[:, exit_of[leg]]
+        for i in range(exit_of[leg], leg + 1):
+            overlap = np.clip(np.minimum(x[:, k], bounds[:, i + 1]) - np.maximum(start, bounds[:, i]),
+                              0.0, None)
+            r = rates(i, profile.fouling[:, k])
+            track = _currents.ground_track(r.speed_through_water, -c_along[:, i], c_across[:, i])
+            fine = (r.state == FailureMode.NONE) & track.headway \
+                & (track.ground_speed > min_ground_speed)
+            per_metre = path[:, i] / np.where(fine, track.ground_speed, 1.0)
+            blocked = ~fine & (overlap > 0.0)
+            t_back[:, k] = np.where(blocked, np.inf, t_back[:, k] + overlap * per_metre)
+            e_back[:, k] = np.where(blocked, np.inf, e_back[:, k]
+                                    + overlap * per_metre * r.power / charge[:, i])
+    return e_back, t_back
+
+
+def under_ice_outcome(
+    rates: RateModel,
+    battery: BatteryState,
+    transit: TransitOutcome,
+    *,
+    ice,
+    leg_length,
+    current_along,
+    current_across,
+    safe_boundary=None,
+    distance_overhead=0.0,
+    capacity_factor=1.0,
+    loiter_power=0.0,
+    loiter_time=0.0,
+    homing_distance=0.0,
+    policy: str = "turn-back",
+    min_ground_speed: float = 0.01,
+) -> UnderIceOutcome:
+    """Point of no return, turn-back decision and recovery-point demand of every sample.
+
+    Parameters
+    ----------
+    rates, battery : as passed to :func:`physics.mission.fly_route`
+    transit : TransitOutcome
+        The forward flight from :func:`fly_route` (with its ``profile``), called with the same
+        ``distance_overhead``, ``capacity_factor`` and ``min_ground_speed``.
+    ice : array_like of bool, (J,)
+        Legs under an ice ceiling.
+    leg_length, current_along, current_across : array_like, (n, J)
+        As passed to :func:`fly_route` [m], [m/s].
+    safe_boundary : array_like of bool, (J+1,), optional
+        Leg boundaries named as safe exits (see :func:`last_safe_exit`).
+    distance_overhead, capacity_factor : array_like, (n, J)
+        As passed to :func:`fly_route`.
+    loiter_power [W], loiter_time [s], homing_distance [m] : array_like, (n,)
+        Demand at the recovery point (:func:`arrival_demand`); homing is flown at the last
+        leg's power and speed through water at the arrival's fouling state.
+    policy : {"continue", "turn-back"}
+        What the vehicle does at the point of no return when its forecast says it will not
+        reach the recovery point with its reserve.
+    min_ground_speed : float
+        Ground-speed floor of the return flight [m/s], as in :func:`fly_route`.
+
+    Returns
+    -------
+    UnderIceOutcome
+
+    Notes
+    -----
+    With energy above the reserve E(x) and the return cost E_back(x), the point of no return
+    solves E(x*) = E_back(x*) (derived). For constant consumption per metre, e_f forward and
+    e_b back, E(x) = E(x_s) - e_f (x - x_s) and E_back = e_b (x - x_s), so
+    x* = x_s + E(x_s) / (e_f + e_b) (derived). The crossing is located by linear
+    interpolation between the profile's step boundaries (exact in that case). The drawable
+    energy on return is taken at the time the vehicle would reach the exit.
+    The forecast is the vehicle's own: energy drawn per metre made good so far, times the
+    distance left, plus the recovery-point demand (a modelling choice, common practice, no
+    source) — so a vehicle can abort a mission it would have completed, or press on into one
+    it cannot.
+    """
+    if policy not in POLICIES:
+        raise ValueError(f"policy must be one of {POLICIES}, got {policy!r}")
+    prof = transit.profile
+    if prof is None:
+        raise ValueError("transit has no route profile; pass the outcome of fly_route")
+    leg_length = np.atleast_2d(np.asarray(leg_length, dtype=float))
+    n, n_legs = leg_length.shape
+    shape = (n, n_legs)
+    ice = np.broadcast_to(np.asarray(ice, dtype=bool), (n_legs,))
+    c_along = np.broadcast_to(np.asarray(current_along, dtype=float), shape)
+    c_across = np.broadcast_to(np.asarray(current_across, dtype=float), shape)
+    path = 1.0 + np.broadcast_to(np.asarray(distance_overhead, dtype=float), shape)
+    charge = np.broadcast_to(np.asarray(capacity_factor, dtype=float), shape)
+    bounds = np.concatenate([np.zeros((n, 1)), np.cumsum(leg_length, axis=1)], axis=1)
+    route = bounds[:, -1]
+    exit_of = last_safe_exit(ice, safe_boundary)
+    x, t, e = prof.position, prof.elapsed, prof.energy
+    cols = np.arange(n)
+    per_column = _columns(battery)  # the same battery, broadcasting over profile columns
+
+    # --- the point of no return -------------------------------------------------------------
+    e_back, t_back = _return_costs(rates, prof, bounds, ice, exit_of, c_along, c_across, path,
+                                   charge, min_ground_speed)
+    finite = np.isfinite(t_back)
+    spare = np.where(finite, per_column.drawable(t + np.where(finite, t_back, 0.0)) - e - e_back,
+                     -np.inf)
+    on_ice = ice[prof.leg]
+    crossed = on_ice[None, :] & (spare <= 0.0)
+    crossed[:, 0] = False
+    has_pnr = crossed.any(axis=1)
+    k = np.where(has_pnr, np.argmax(crossed, axis=1), 1)
+    g0, g1 = spare[cols, k - 1], spare[cols, k]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        frac = np.where(g0 > 0.0, g0 / np.where(np.isfinite(g1), g0 - g1, np.inf), 0.0)
+    frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
+
+    def at_pnr(values):
+        v0, v1 = values[cols, k - 1], values[cols, k]
+        return np.where(frac > 0.0, v0 + frac * (v1 - v0), v0)
+
+    x_pnr = np.where(has_pnr, at_pnr(x), np.inf)
+    # the return cost at x*: zero from an open-water column, linear on the ice leg
+    e_back_pnr = np.where(frac > 0.0, at_pnr(np.where(np.isfinite(e_back), e_back, 0.0)),
+                          e_back[cols, k - 1])
+    t_back_pnr = np.where(frac > 0.0, at_pnr(np.where(np.isfinite(t_back), t_back, 0.0)),
+                          t_back[cols, k - 1])
+
+    # --- the recovery-point demand ----------------------------------------------------------
+    last = n_legs - 1
+    end = rates(last, prof.fouling[:, -1])
+    arrival_energy, arrival_duration = arrival_demand(
+        loiter_power, loiter_time, end.power, end.speed_through_water, homing_distance,
+        charge[:, last])
+    arrival_energy = np.broadcast_to(arrival_energy, (n,))
+    arrival_duration = np.broadcast_to(arrival_duration, (n,))
+    finished = transit.duration + arrival_duration
+    margin = np.where(transit.arrived,
+                      battery.drawable(finished) - e[:, -1] - arrival_energy,
+                      np.minimum(transit.margin, 0.0))
+    success = transit.success & (margin >= 0.0)
+    reaches = transit.arrived & (e[:, -1] + arrival_energy <= battery.usable(finished))
+
+    # --- the decision --------------------------------------------------------------------------
+    turned = np.zeros(n, dtype=bool)
+    turn_x = np.full(n, np.inf)
+    if policy == "turn-back":
+        reached_pnr = has_pnr & (x[:, -1] >= x_pnr)
+        e_star, t_star = at_pnr(e), at_pnr(t)
+        per_metre = np.divide(e_star, x_pnr, out=np.zeros(n), where=reached_pnr & (x_pnr > 0))
+        left = np.where(reached_pnr, route - x_pnr, 0.0)
+        forecast = battery.drawable(t_star) - e_star - per_metre * left - arrival_energy
+        at_pnr_turn = reached_pnr & (forecast < 0.0)
+        # stopped by a current under ice while a return was still possible
+        stopped_ice = ~transit.arrived & ice[_leg_at(x[:, -1], bounds)] \
+            & (spare[:, -1] > 0.0) & ~at_pnr_turn
+        turned = at_pnr_turn | stopped_ice
+        turn_x = np.where(at_pnr_turn, x_pnr, np.where(stopped_ice, x[:, -1], np.inf))
+        return_energy = np.where(at_pnr_turn, e_back_pnr, np.where(stopped_ice, e_back[:, -1], 0.0))
+        return_duration = np.where(at_pnr_turn, t_back_pnr,
+                                   np.where(stopped_ice, t_back[:, -1], 0.0))
+        turn_time = np.where(at_pnr_turn, t_star, np.where(stopped_ice, t[:, -1], np.inf))
+    else:
+        return_energy = np.zeros(n)
+        return_duration = np.zeros(n)
+        turn_time = np.full(n, np.inf)
+    success &= ~turned
+    reaches &= ~turned
+
+    # --- where a vehicle that is neither recovered nor returned ends -------------------------
+    usable = per_column.usable(t)
+    empty = (e > usable) & (np.arange(x.shape[1]) > 0)[None, :]
+    first_empty = np.argmax(empty, axis=1)
+    end_x = np.where(~transit.arrived, x[:, -1],
+                     np.where(empty.any(axis=1), x[cols, first_empty], route))
+    lost = ~reaches & ~turned & ice[_leg_at(end_x, bounds)]
+
+    # --- the timeline -----------------------------------------------------------------------
+    steps = (x.shape[1] - 1) // n_legs
+    boundary_time = t[:, ::steps][:, : n_legs + 1]
+    boundary_time = np.minimum(boundary_time, turn_time[:, None])
+    mission_end = np.where(turned, turn_time + return_duration,
+                           np.where(transit.arrived, finished, transit.duration))
+    return UnderIceOutcome(
+        point_of_no_return=x_pnr,
+        turned_back=turned,
+        turn_position=turn_x,
+        return_energy=return_energy,
+        return_duration=return_duration,
+        arrival_energy=np.array(arrival_energy),
+        arrival_duration=np.array(arrival_duration),
+        margin=margin,
+        success=success,
+        reaches_recovery=reaches,
+        lost_under_ice=lost,
+        mission_end=mission_end,
+        boundary_time=boundary_time,
+    )
+
+
+def _columns(battery):
+    """``battery`` with its per-sample fields as columns, to broadcast over (n, K) times."""
+    return dataclasses.replace(battery, **{
+        f.name: np.asarray(getattr(battery, f.name), dtype=float)[:, None]
+        for f in dataclasses.fields(battery)})
+
+
+def _leg_at(position, bounds):
+    """Leg index of each sample's position (the last leg for the route end)."""
+    inner = bounds[:, 1:-1]
+    return np.sum(position[:, None] >= inner, axis=1) if inner.shape[1] else \
+        np.zeros(position.shape, dtype=int)
+
+
+def fault_split(outcome: UnderIceOutcome, ice, rates, shapes=None) -> FaultSplit:
+    """Split each sample's hardware risk into no fault, a fault under ice, a fault in open water.
+
+    Parameters
+    ----------
+    outcome : UnderIceOutcome
+    ice : array_like of bool, (J,)
+        Legs under an ice ceiling; the return flight of a turned-back vehicle and the loiter
+        and homing at an ice-covered recovery point count as under ice.
+    rates, shapes : array_like, (m,)
+        Hazard rate [1/s] and Weibull shape [-] of each subsystem
+        (:func:`physics.reliability.survival_probability`).
+
+    Returns
+    -------
+    FaultSplit
+        P(no fault) = S(T_end); P(fault under ice) = sum over the ice intervals
+        [t_a, t_b] of S(t_a) - S(t_b); P(fault in open water) = the rest (derived).
+    """
+    ice = np.asarray(ice, dtype=bool)
+    bt = outcome.boundary_time
+    end = outcome.mission_end
+    forward_end = np.where(outcome.turned_back, end - outcome.return_duration,
+                           np.minimum(bt[:, -1], end))
+    under = np.zeros(end.shape)
+    for j in np.flatnonzero(ice):
+        a = np.minimum(bt[:, j], forward_end)
+        b = np.minimum(bt[:, j + 1], forward_end)
+        under += _reliability.first_fault_probability(a, b, rates, shapes)
+    # return flight (under ice by construction) and loiter/homing at an ice-covered hole
+    tail_ice = outcome.turned_back | bool(ice[-1])
+    under += np.where(tail_ice, _reliability.first_fault_probability(forward_end, end, rates,
+                                                                     shapes), 0.0)
+    no_fault = _reliability.survival_probability(end, rates, shapes)
+    open_water = np.clip(1.0 - no_fault - under, 0.0, 1.0)
+    return FaultSplit(no_fault=no_fault, under_ice=under, open_water=open_water)
