@@ -28,7 +28,8 @@ if str(ROOT) not in sys.path:
 import pandas as pd  # noqa: E402
 
 from uq.sampling import backends  # noqa: E402
-from uq.studies.batch import load_study, run_study  # noqa: E402
+from uq.scenario.study_file import load_study  # noqa: E402
+from uq.studies.batch import run_study  # noqa: E402
 
 
 def main(argv=None) -> int:

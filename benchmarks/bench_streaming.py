@@ -32,6 +32,7 @@ if str(ROOT) not in sys.path:
 from uq.sampling.engine import CountReducer, HistogramReducer, MultiReducer, stream  # noqa: E402
 from uq.sampling.inputs import InputModel, ScipyMarginal  # noqa: E402
 from uq.sampling.plans import SampleDesign  # noqa: E402
+from uq.estimators import histogram_exceedance_curve  # noqa: E402
 
 EDGES = np.linspace(0.0, 20.0, 401)
 

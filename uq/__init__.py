@@ -38,7 +38,7 @@ _LAZY = {
     "Assessment": "uq.studies.assess",
     "sweep_setpoint": "uq.studies.sweeps",
     "compare_scenarios": "uq.studies.sweeps",
-    "load_study": "uq.studies.batch",
+    "load_study": "uq.scenario.study_file",
     "run_study": "uq.studies.batch",
     "write_study": "uq.studies.batch",
     "write_report": "uq.report",

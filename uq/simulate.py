@@ -1,17 +1,24 @@
 """From a scenario and a sample of its uncertain inputs to per-sample transit outcomes.
 
 This is the one place where the scenario's file units (km, days, Wh, degrees) become SI and
-where scenario fields are routed to the physics; no physical formula is written here.
+where scenario fields are routed to the physics; no physical formula is written here. Every
+consumer that needs the vehicle at given inputs (the sampled transit, the nominal budget, the
+glide operating point of the report, the deterministic optimum of a sweep) goes through the
+same routing functions below, so one density rule and one drag rule hold everywhere.
 """
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
+from typing import Any, Iterator, Sequence
 
 import numpy as np
 import pandas as pd
+from scipy import optimize
 
-from physics import drag, lift, mission, seawater
+from physics import drag, glide, lift, mission, seawater
 from physics.states import FAILURE_MODE_NAMES, FailureMode
+from uq.errors import InputError
 from uq.scenario import (
     DragCoefficient,
     GliderVehicle,
@@ -23,12 +30,18 @@ from uq.scenario import (
 
 __all__ = [
     "SECONDS_PER_DAY",
+    "FAILURE_MODE_NAMES",
+    "FailureMode",
+    "Outcomes",
     "ScenarioModel",
     "simulate_arrays",
     "simulate",
     "nominal_inputs",
     "nominal",
     "NominalResult",
+    "GlideOperatingPoint",
+    "glide_operating_point",
+    "deterministic_optimum",
 ]
 
 SECONDS_PER_DAY = 86400.0
@@ -41,7 +54,7 @@ class _Fields:
     def __init__(self, scenario: Scenario, x: np.ndarray):
         x = np.asarray(x, dtype=float)
         if x.ndim != 2 or x.shape[1] != len(scenario.inputs):
-            raise ValueError(
+            raise InputError(
                 f"sample array has shape {x.shape}; expected (n, {len(scenario.inputs)}) "
                 f"for the inputs {list(scenario.input_names)}"
             )
@@ -74,9 +87,12 @@ def _leg_water(scenario: Scenario, f: _Fields, depth: np.ndarray):
     return rho, nu
 
 
-def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.PropellerRates:
+def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray, *,
+                     speed: np.ndarray | None = None) -> mission.PropellerRates:
+    """Propeller rates per sample and leg; ``speed`` [m/s] overrides the setpoint if given."""
     vehicle: PropellerVehicle = scenario.vehicle
-    speed = f(scenario.setpoint.speed_m_s)
+    speed = f(scenario.setpoint.speed_m_s) if speed is None else np.broadcast_to(
+        np.asarray(speed, dtype=float), (f.n,))
     depth = f(scenario.setpoint.depth_m)[:, None]
     rho, nu = _leg_water(scenario, f, depth)
     body = vehicle.drag
@@ -133,9 +149,14 @@ def _glider_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.
     )
 
 
+def _hotel(scenario: Scenario, f: _Fields) -> np.ndarray:
+    """Hotel load on every leg [W], (n, J): the leg's own value, else the vehicle's."""
+    return f.legs(scenario.legs, "hotel_load_W", fallback=f(scenario.vehicle.hotel_load_W))
+
+
 def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOutcome:
     f = _Fields(scenario, x)
-    hotel = f.legs(scenario.legs, "hotel_load_W", fallback=f(scenario.vehicle.hotel_load_W))
+    hotel = _hotel(scenario, f)
     if scenario.vehicle.kind == "propeller":
         rates = _propeller_rates(scenario, f, hotel)
     else:
@@ -163,66 +184,153 @@ def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOut
     )
 
 
-def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> dict[str, np.ndarray]:
+@dataclass(frozen=True, eq=False)  # arrays have no single truth value: compare fields
+class Outcomes:
+    """Per-sample transit outcomes in report units, one entry per sample row.
+
+    The one typed carrier of outcomes between the model, the estimators, the decisions and the
+    report. Fields can also be read by name (``outcomes["range_km"]``), which is how the
+    streaming engine's reducers address them; only the fields below exist.
+
+    Attributes
+    ----------
+    range_km : distance at which drawable energy reaches the reserve [km], (n,)
+    range_censored : range still open at the extension cap [bool], (n,)
+    arrived : reached the route end without a stop (no headway / no glide) [bool], (n,)
+    reaches_recovery : arrived with drawn energy within the usable energy, on the reserve if
+        need be -- THE definition of "reached the recovery point" used for ship bookings [bool]
+    success : arrived with the reserve intact, within the time limit [bool], (n,)
+    failure_mode : first event along the route, :class:`physics.states.FailureMode` codes, (n,)
+    failing_leg : index of the leg of that event, -1 for success, (n,)
+    duration_days : time to the route end if arrived, else to the stop [d], (n,)
+    margin_Wh : drawable energy left at the route end, negative = shortfall [Wh], (n,)
+    margin_fraction : margin over usable energy at arrival [-], (n,)
+    energy_per_km_Wh : energy drawn per km on each leg [Wh/km], (n, J); NaN on legs not flown
+    route_energy_per_km_Wh : energy drawn over distance flown on the route [Wh/km], (n,)
+    route_km : route length of each sample [km], (n,)
+    """
+
+    range_km: np.ndarray
+    range_censored: np.ndarray
+    arrived: np.ndarray
+    reaches_recovery: np.ndarray
+    success: np.ndarray
+    failure_mode: np.ndarray
+    failing_leg: np.ndarray
+    duration_days: np.ndarray
+    margin_Wh: np.ndarray
+    margin_fraction: np.ndarray
+    energy_per_km_Wh: np.ndarray
+    route_energy_per_km_Wh: np.ndarray
+    route_km: np.ndarray
+
+    # ---- mapping-style access by field name (reducers, tables) -------------------------------
+    def __getitem__(self, key: str) -> np.ndarray:
+        if key not in _OUTCOME_FIELDS:
+            raise KeyError(f"no outcome {key!r}; outcomes are {', '.join(_OUTCOME_FIELDS)}")
+        return getattr(self, key)
+
+    def __contains__(self, key: object) -> bool:
+        return key in _OUTCOME_FIELDS
+
+    def keys(self) -> tuple[str, ...]:
+        return _OUTCOME_FIELDS
+
+    def items(self) -> Iterator[tuple[str, np.ndarray]]:
+        return ((k, getattr(self, k)) for k in _OUTCOME_FIELDS)
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(_OUTCOME_FIELDS)
+
+    def __len__(self) -> int:
+        return int(np.shape(self.range_km)[0])
+
+    @property
+    def n(self) -> int:
+        """Number of samples."""
+        return len(self)
+
+    def take(self, index: Any) -> "Outcomes":
+        """The outcomes of the selected samples (boolean mask, slice or integer indices)."""
+        return Outcomes(**{k: np.asarray(getattr(self, k))[index] for k in _OUTCOME_FIELDS})
+
+    @classmethod
+    def from_columns(cls, columns: Any) -> "Outcomes":
+        """Build from a mapping of field name -> array (e.g. a collecting reducer's result)."""
+        return cls(**{k: np.asarray(columns[k]) for k in _OUTCOME_FIELDS})
+
+    @classmethod
+    def concatenate(cls, parts: Sequence["Outcomes"]) -> "Outcomes":
+        """Samples of several parts, in order."""
+        return cls(**{k: np.concatenate([np.asarray(getattr(p, k)) for p in parts])
+                      for k in _OUTCOME_FIELDS})
+
+    def to_frame(self, scenario: Scenario | None = None) -> pd.DataFrame:
+        """One row per sample; failure modes by name, legs by name when ``scenario`` is given.
+
+        Columns: range_km, range_censored, arrived, reaches_recovery, success, failure_mode,
+        failing_leg, duration_days, margin_Wh, margin_fraction, route_energy_per_km_Wh and
+        energy_per_km_Wh.<leg> for every leg (NaN where the leg was never reached).
+        """
+        names = ([leg.name for leg in scenario.legs] if scenario is not None
+                 else [f"leg{j}" for j in range(np.shape(self.energy_per_km_Wh)[1])])
+        frame = pd.DataFrame({
+            "range_km": self.range_km,
+            "range_censored": self.range_censored,
+            "arrived": self.arrived,
+            "reaches_recovery": self.reaches_recovery,
+            "success": self.success,
+            "failure_mode": [FAILURE_MODE_NAMES[FailureMode(m)] for m in self.failure_mode],
+            "failing_leg": [names[j] if j >= 0 else "" for j in self.failing_leg],
+            "duration_days": self.duration_days,
+            "margin_Wh": self.margin_Wh,
+            "margin_fraction": self.margin_fraction,
+            "route_energy_per_km_Wh": self.route_energy_per_km_Wh,
+        })
+        for j, name in enumerate(names):
+            frame[f"energy_per_km_Wh.{name}"] = self.energy_per_km_Wh[:, j]
+        return frame
+
+
+_OUTCOME_FIELDS: tuple[str, ...] = tuple(f.name for f in dataclasses.fields(Outcomes))
+
+
+def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> Outcomes:
     """Outcomes of every sample row of ``x`` (columns = ``scenario.input_names``), report units.
 
-    Keys: ``range_km``, ``range_censored``, ``arrived``, ``reaches_recovery`` (arrived before
-    the pack is truly empty, possibly on its reserve), ``success``, ``failure_mode``,
-    ``failing_leg``, ``duration_days``, ``margin_Wh``, ``margin_fraction``,
-    ``energy_per_km_Wh`` (n, J), ``route_energy_per_km_Wh`` (energy drawn over distance
-    flown on the route) and ``route_km``.
+    ``options`` go to :func:`physics.mission.fly_route` (e.g. ``min_ground_speed``).
     """
     out = _transit(scenario, x, **options)
-    return {
-        "range_km": out.range / 1000.0,
-        "range_censored": out.range_censored,
-        "arrived": out.arrived,
-        "reaches_recovery": out.reaches_recovery,
-        "success": out.success,
-        "failure_mode": out.failure_mode,
-        "failing_leg": out.failing_leg,
-        "duration_days": out.duration / SECONDS_PER_DAY,
-        "margin_Wh": out.margin / _J_PER_WH,
-        "margin_fraction": out.margin_fraction,
-        "energy_per_km_Wh": out.energy_per_distance * (1000.0 / _J_PER_WH),
-        "route_energy_per_km_Wh": out.route_energy_per_distance * (1000.0 / _J_PER_WH),
-        "route_km": out.route_length / 1000.0,
-    }
+    return Outcomes(
+        range_km=out.range / 1000.0,
+        range_censored=out.range_censored,
+        arrived=out.arrived,
+        reaches_recovery=out.reaches_recovery,
+        success=out.success,
+        failure_mode=out.failure_mode,
+        failing_leg=out.failing_leg,
+        duration_days=out.duration / SECONDS_PER_DAY,
+        margin_Wh=out.margin / _J_PER_WH,
+        margin_fraction=out.margin_fraction,
+        energy_per_km_Wh=out.energy_per_distance * (1000.0 / _J_PER_WH),
+        route_energy_per_km_Wh=out.route_energy_per_distance * (1000.0 / _J_PER_WH),
+        route_km=np.broadcast_to(out.route_length / 1000.0, np.shape(out.range)),
+    )
 
 
 @dataclass(frozen=True)
 class ScenarioModel:
-    """Picklable model function ``x -> outcomes`` for the sampling engine."""
+    """Picklable model function ``x -> Outcomes`` for the sampling engine."""
 
     scenario: Scenario
 
-    def __call__(self, x: np.ndarray) -> dict[str, np.ndarray]:
+    def __call__(self, x: np.ndarray) -> Outcomes:
         return simulate_arrays(self.scenario, x)
 
 
 def simulate(scenario: Scenario, x: np.ndarray, **options) -> pd.DataFrame:
-    """Per-sample outcomes as a DataFrame, one row per row of ``x``.
-
-    Columns: range_km, range_censored, arrived, success, failure_mode (name),
-    failing_leg (name or ""), duration_days, margin_Wh, margin_fraction,
-    energy_per_km_Wh.<leg> for every leg (NaN where the leg was never reached).
-    """
-    a = simulate_arrays(scenario, x, **options)
-    names = [leg.name for leg in scenario.legs]
-    frame = pd.DataFrame({
-        "range_km": a["range_km"],
-        "range_censored": a["range_censored"],
-        "arrived": a["arrived"],
-        "success": a["success"],
-        "failure_mode": [FAILURE_MODE_NAMES[FailureMode(m)] for m in a["failure_mode"]],
-        "failing_leg": [names[j] if j >= 0 else "" for j in a["failing_leg"]],
-        "duration_days": a["duration_days"],
-        "margin_Wh": a["margin_Wh"],
-        "margin_fraction": a["margin_fraction"],
-    })
-    for j, name in enumerate(names):
-        frame[f"energy_per_km_Wh.{name}"] = a["energy_per_km_Wh"][:, j]
-    return frame
+    """Per-sample outcomes as a DataFrame, one row per row of ``x`` (see :meth:`Outcomes.to_frame`)."""
+    return simulate_arrays(scenario, x, **options).to_frame(scenario)
 
 
 def nominal_inputs(scenario: Scenario) -> np.ndarray:
@@ -250,3 +358,77 @@ def nominal(scenario: Scenario) -> NominalResult:
     row = frame.iloc[0]
     per_km = {leg.name: float(row[f"energy_per_km_Wh.{leg.name}"]) for leg in scenario.legs}
     return NominalResult(outcome=row, route_km=scenario.route_length_km, energy_per_km_Wh=per_km)
+
+
+# ------------------------------------------------------------------ the nominal vehicle
+@dataclass(frozen=True)
+class GlideOperatingPoint:
+    """The clean glider's polar and operating point at nominal (median) inputs.
+
+    ``density`` [kg/m3] is the length-weighted mean over legs of the density the transit
+    model uses on each leg (mid-depth of the leg's dive band); speeds in [m/s].
+    """
+
+    polar: Any
+    horizontal_speed: float
+    vertical_speed: float
+    feasible: bool
+    glide_angle_deg: float
+    net_buoyancy_N: float
+    density: float
+    zero_lift_drag: float
+    induced_drag_factor: float
+    reference_area_m2: float
+    max_lift_coefficient: float
+
+
+def _length_weights(scenario: Scenario, f: _Fields) -> np.ndarray:
+    lengths = f.legs(scenario.legs, "length_km")[0]
+    return lengths / lengths.sum()
+
+
+def glide_operating_point(scenario: Scenario, *, points: int = 200) -> GlideOperatingPoint | None:
+    """Clean-hull glide polar and operating point of a glider at nominal inputs, else None."""
+    if scenario.vehicle.kind != "glider":
+        return None
+    f = _Fields(scenario, nominal_inputs(scenario))
+    rates = _glider_rates(scenario, f, _hotel(scenario, f))
+    rho = float(np.sum(rates.density[0] * _length_weights(scenario, f)))
+    b, area = float(rates.net_buoyancy[0]), float(rates.reference_area[0])
+    cd0, k = float(rates.zero_lift_drag[0]), float(rates.induced_drag_factor[0])
+    cl_max = float(rates.max_lift_coefficient[0])
+    angle = float(rates.glide_angle[0])
+    state = glide.steady_glide(angle, b, rho, area, cd0, k, max_lift_coefficient=cl_max)
+    return GlideOperatingPoint(
+        polar=glide.glide_polar(b, rho, area, cd0, k, max_lift_coefficient=cl_max, n=points),
+        horizontal_speed=float(state.horizontal_speed), vertical_speed=float(state.vertical_speed),
+        feasible=bool(np.asarray(state.state) == 0), glide_angle_deg=float(np.rad2deg(angle)),
+        net_buoyancy_N=b, density=rho, zero_lift_drag=cd0, induced_drag_factor=k,
+        reference_area_m2=area, max_lift_coefficient=cl_max,
+    )
+
+
+def deterministic_optimum(scenario: Scenario, field: str, *,
+                          bounds: tuple[float, float] = (0.05, 5.0)) -> float | None:
+    """Energy-optimal setpoint of the nominal (median-input) vehicle in still water.
+
+    Propeller speed only: the speed through water [m/s] minimising the route's energy,
+    sum over legs of L_j (D_j(U)/eta + P_hotel,j / U), with each leg's own water, hotel load and
+    a drag coefficient that follows U through the Reynolds number, found with a bounded scalar
+    minimiser. For a constant drag coefficient on one leg it equals the closed form
+    U* = (eta P_hotel / (rho C_D A))^(1/3). Gliders and other fields: None.
+    """
+    if scenario.vehicle.kind != "propeller" or field != "setpoint.speed_m_s":
+        return None
+    f = _Fields(scenario, nominal_inputs(scenario))
+    hotel = _hotel(scenario, f)
+    weights = _length_weights(scenario, f)
+
+    def route_energy_per_metre(speed: float) -> float:
+        rates = _propeller_rates(scenario, f, hotel, speed=np.array([speed]))
+        per_metre = rates.clean_drag[0] / rates.propulsive_efficiency[0] + rates.hotel_load[0] / speed
+        return float(np.sum(weights * per_metre))
+
+    res = optimize.minimize_scalar(route_energy_per_metre, bounds=bounds, method="bounded",
+                                   options={"xatol": 1e-9})
+    return float(res.x)

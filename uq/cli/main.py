@@ -24,7 +24,6 @@ import sys
 import tempfile
 import traceback
 import warnings
-from contextlib import contextmanager
 from pathlib import Path
 from typing import Sequence
 

@@ -3,7 +3,50 @@ Sobol indices by the Saltelli design (``sobol``) and from polynomial chaos (``pc
 
 The interval rules live here once; decisions, studies and reports call them.
 """
-from uq.estimators.intervals import *  # noqa: F401,F403 - the interval rules are the package's face
-from uq.estimators.intervals import __all__ as _interval_names
+from uq.estimators.intervals import (  # the interval rules are the package's face
+    EstimatorError,
+    InsufficientSamplesError,
+    IntervalEstimate,
+    QuantileInterval,
+    ExceedanceCurve,
+    ConvergenceResult,
+    proportion_interval,
+    wilson_bounds,
+    replicate_interval,
+    mean_interval,
+    mean_interval_from_moments,
+    exceedance_curve,
+    exceedance_curve_from_counts,
+    dkw_half_width,
+    quantile_interval,
+    quantile_interval_from_counts,
+    quantile_ranks,
+    minimum_samples_for_quantile,
+    grow_until,
+    histogram_exceedance_curve,
+    histogram_quantile_interval,
+)
 
-__all__ = list(_interval_names)
+__all__ = [
+    "EstimatorError",
+    "InsufficientSamplesError",
+    "IntervalEstimate",
+    "QuantileInterval",
+    "ExceedanceCurve",
+    "ConvergenceResult",
+    "proportion_interval",
+    "wilson_bounds",
+    "replicate_interval",
+    "mean_interval",
+    "mean_interval_from_moments",
+    "exceedance_curve",
+    "exceedance_curve_from_counts",
+    "dkw_half_width",
+    "quantile_interval",
+    "quantile_interval_from_counts",
+    "quantile_ranks",
+    "minimum_samples_for_quantile",
+    "grow_until",
+    "histogram_exceedance_curve",
+    "histogram_quantile_interval",
+]

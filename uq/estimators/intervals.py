@@ -43,6 +43,7 @@ __all__ = [
     "wilson_bounds",
     "replicate_interval",
     "mean_interval",
+    "mean_interval_from_moments",
     "exceedance_curve",
     "exceedance_curve_from_counts",
     "dkw_half_width",
@@ -223,11 +224,24 @@ def _finite_sample(values, name: str, minimum: int) -> np.ndarray:
 
 
 def _t_interval(x: np.ndarray, confidence: float, method: str) -> IntervalEstimate:
-    m = x.size
-    mean = float(np.mean(x))
-    se = float(np.std(x, ddof=1)) / math.sqrt(m)
-    t = float(stats.t.ppf(0.5 + confidence / 2.0, m - 1))
-    return IntervalEstimate(mean, mean - t * se, mean + t * se, confidence, method, m)
+    return mean_interval_from_moments(x.size, float(np.mean(x)), float(np.std(x, ddof=1)),
+                                      confidence=confidence, method=method)
+
+
+def mean_interval_from_moments(n: int, mean: float, sd: float, *, confidence: float = 0.95,
+                               method: str | None = None) -> IntervalEstimate:
+    """Student-t interval ``mean +- t_{n-1} sd / sqrt(n)`` from a count, a mean and a sample sd.
+
+    The one Student-t rule: :func:`mean_interval`, :func:`replicate_interval` and the streamed
+    sums of a study (:class:`uq.sampling.engine.SumTotal`) all end here.
+    """
+    confidence = _check_confidence(confidence)
+    if n < 2:
+        raise InsufficientSamplesError(f"a Student-t interval needs at least 2 values; got {n}")
+    se = float(sd) / math.sqrt(n)
+    t = float(stats.t.ppf(0.5 + confidence / 2.0, n - 1))
+    return IntervalEstimate(float(mean), mean - t * se, mean + t * se, confidence,
+                            method or f"student-t over {n} samples", int(n))
 
 
 def replicate_interval(replicate_estimates, *, confidence: float = 0.95) -> IntervalEstimate:
@@ -263,7 +277,7 @@ def mean_interval(values, *, confidence: float = 0.95) -> IntervalEstimate:
     """Student-t interval for the mean of i.i.d. values (n >= 2)."""
     confidence = _check_confidence(confidence)
     x = _finite_sample(values, "mean_interval", 2)
-    return _t_interval(x, confidence, "student-t")
+    return _t_interval(x, confidence, f"student-t over {x.size} samples")
 
 
 # ---------------------------------------------------------------------- exceedance

@@ -19,15 +19,15 @@ import time
 import unicodedata
 from datetime import datetime, timezone
 from pathlib import Path
-from typing import Any, Callable
+from typing import Callable
 
 import numpy as np
 import pandas as pd
 
-from physics.states import FailureMode
 from uq.report import figures as fig_mod
 from uq.report._format import Formatter, finite_or_none
 from uq.report.summary import build_summary, nominal_dict
+from uq.simulate import glide_operating_point
 
 __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write_report",
            "CAUTIONS", "MODEL_ASSUMPTIONS", "SECTION_IDS"]
@@ -281,52 +281,9 @@ def _write_tables(a, folder, *, sweep, sweep_summary, comparison, pair) -> None:
 
 # ------------------------------------------------------------------------ figures
 def reached_durations(a) -> np.ndarray:
-    """Arrival times [days] of the samples that reached the recovery point."""
+    """Arrival times [days] of the samples that reached the recovery point (the booking's population)."""
     out = a.propagation.outcomes
-    reached = out["arrived"] & np.isin(out["failure_mode"],
-                                       (FailureMode.NONE, FailureMode.TIME_LIMIT))
-    return np.asarray(out["duration_days"], dtype=float)[reached]
-
-
-def glide_operating_point(scenario) -> dict[str, Any] | None:
-    """Clean-hull glide polar and operating point at nominal (median) inputs, or None.
-
-    Density is the mean over legs at mid-dive depth of the setpoint's depth band.
-    """
-    if scenario.vehicle.kind != "glider":
-        return None
-    from physics import glide, lift, seawater
-    from uq.simulate import nominal_inputs
-
-    x = nominal_inputs(scenario)[0]
-    column = {name: i for i, name in enumerate(scenario.input_names)}
-
-    def value(v, default=None):
-        if v is None:
-            v = default
-        return float(v) if isinstance(v, (int, float)) else float(x[column[v.name]])
-
-    polar, sp = scenario.vehicle.polar, scenario.setpoint
-    if polar.induced_drag_factor is not None:
-        k = value(polar.induced_drag_factor)
-    else:
-        k = float(lift.induced_drag_factor(value(polar.aspect_ratio),
-                                           value(polar.span_efficiency)))
-    depth = 0.5 * (value(sp.top_depth_m) + value(sp.bottom_depth_m))
-    rho = float(np.mean(seawater.density(
-        np.array([value(leg.practical_salinity) for leg in scenario.legs]),
-        np.array([value(leg.temperature_C) for leg in scenario.legs]), depth)))
-    b, area, cd0 = value(sp.net_buoyancy_N), value(polar.reference_area_m2), value(polar.zero_lift_drag)
-    cl_max = value(polar.max_lift_coefficient)
-    curve = glide.glide_polar(b, rho, area, cd0, k, max_lift_coefficient=cl_max, n=200)
-    angle = value(sp.glide_angle_deg)
-    state = glide.steady_glide(np.deg2rad(angle), b, rho, area, cd0, k,
-                               max_lift_coefficient=cl_max)
-    ok = int(np.asarray(state.state)) == 0 if np.ndim(state.state) == 0 else bool(state.state == 0)
-    return {"polar": curve, "u": float(state.horizontal_speed), "w": float(state.vertical_speed),
-            "feasible": ok, "angle_deg": angle, "net_buoyancy_N": b, "density": rho,
-            "zero_lift_drag": cd0, "induced_drag_factor": k, "reference_area_m2": area,
-            "max_lift_coefficient": cl_max}
+    return np.asarray(out.duration_days, dtype=float)[np.asarray(out.reaches_recovery, bool)]
 
 
 def _b64(png: bytes) -> str:
@@ -358,9 +315,9 @@ def _make_figures(a, figdir: Path, *, sweep_summary) -> dict[str, str]:
     op = glide_operating_point(sc)
     if op is not None:
         images["glide_polar"] = _b64(fig_mod.save_figure(fig_mod.glide_polar_figure(
-            op["polar"], operating_u=op["u"] if op["feasible"] else float("nan"),
-            operating_w=op["w"] if op["feasible"] else float("nan"),
-            glide_angle_deg=op["angle_deg"], net_buoyancy_N=op["net_buoyancy_N"]),
+            op.polar, operating_u=op.horizontal_speed if op.feasible else float("nan"),
+            operating_w=op.vertical_speed if op.feasible else float("nan"),
+            glide_angle_deg=op.glide_angle_deg, net_buoyancy_N=op.net_buoyancy_N),
             figdir, "glide_polar"))
     return images
 

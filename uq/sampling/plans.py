@@ -45,6 +45,7 @@ import numpy as np
 from scipy.stats import qmc
 
 __all__ = [
+    "DEFAULT_BLOCK_SIZE",
     "SCHEMES",
     "SampleDesign",
     "SampleDesignError",
@@ -61,6 +62,12 @@ SCHEMES = ("monte-carlo", "sobol", "latin-hypercube")
 
 #: Largest n for which the Latin hypercube plan is generated whole (memory n*d*8 bytes).
 LATIN_HYPERCUBE_MAX_N = 10**8
+
+
+#: Rows per streaming block unless a caller says otherwise. A Monte Carlo plan's rows depend
+#: on it (each block has its own child stream), so every stage and every command that wants
+#: the same plan from the same seed uses this one value.
+DEFAULT_BLOCK_SIZE = 2**15
 
 
 class SampleDesignError(InputError):
@@ -109,7 +116,7 @@ class SampleDesign:
         and record a fresh one.
     replicate : int, default 0
         Index of an independent randomisation (RQMC replicate) of the same plan.
-    block_size : int, default 2**14
+    block_size : int, default DEFAULT_BLOCK_SIZE (2**15)
         Rows per block for streaming. For "monte-carlo" it is part of the plan's
         definition (each block has its own random stream); for the other schemes it only
         sets the streaming granularity.
@@ -127,7 +134,7 @@ class SampleDesign:
     dimension: int
     seed: int
     replicate: int = 0
-    block_size: int = 2**14
+    block_size: int = DEFAULT_BLOCK_SIZE
 
     def __post_init__(self) -> None:
         if self.scheme not in SCHEMES:
@@ -275,7 +282,7 @@ def _resolve_seed(seed) -> int:
 
 
 def monte_carlo(n: int, d: int, *, seed: int | None = None, replicate: int = 0,
-                block_size: int = 2**14) -> SampleDesign:
+                block_size: int = DEFAULT_BLOCK_SIZE) -> SampleDesign:
     """Plain Monte Carlo plan of ``n`` rows in ``d`` dimensions.
 
     ``seed=None`` draws a fresh seed and records it in the returned design.
@@ -284,7 +291,7 @@ def monte_carlo(n: int, d: int, *, seed: int | None = None, replicate: int = 0,
 
 
 def scrambled_sobol(n: int, d: int, *, seed: int | None = None, replicate: int = 0,
-                    block_size: int = 2**14) -> SampleDesign:
+                    block_size: int = DEFAULT_BLOCK_SIZE) -> SampleDesign:
     """Scrambled Sobol' (randomized QMC) plan; ``n`` must be a power of two.
 
     Independent replicates (``replicate=0, 1, ...``) give an error estimate via
@@ -295,7 +302,7 @@ def scrambled_sobol(n: int, d: int, *, seed: int | None = None, replicate: int =
 
 
 def latin_hypercube(n: int, d: int, *, seed: int | None = None, replicate: int = 0,
-                    block_size: int = 2**14) -> SampleDesign:
+                    block_size: int = DEFAULT_BLOCK_SIZE) -> SampleDesign:
     """Latin hypercube plan (McKay et al. 1979), generated whole then sliced.
 
     Meant for n up to about 10^7 (the whole plan, n*d*8 bytes, is held in memory once

@@ -6,6 +6,7 @@ the file, the key, the value and what was expected).
 from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
 from uq.scenario.errors import MISSING, ScenarioError
 from uq.scenario.reader import load_scenario, parse_scenario
+from uq.scenario.study_file import Study, StudyFileError, Variant, load_study, parse_study
 from uq.scenario.types import (
     Analysis,
     Battery,
@@ -28,6 +29,7 @@ from uq.scenario.types import (
 
 __all__ = [
     "load_scenario", "parse_scenario", "ScenarioError", "MISSING", "Marginal",
+    "load_study", "parse_study", "Study", "Variant", "StudyFileError",
     "parse_distribution", "unit_from_key",
     "Scenario", "Value", "HullGeometry", "DragCoefficient", "PropellerVehicle", "GliderPolar",
     "GliderVehicle", "Battery", "PropellerSetpoint", "GliderSetpoint", "Fouling", "Leg",

@@ -27,18 +27,18 @@ import os
 import re
 import tomllib
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from dataclasses import fields as _dataclass_fields
-from typing import Any, Union
+from typing import Any
 
 import numpy as np
 
 from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
-from uq.scenario.errors import MISSING, ScenarioError, _short_repr
+from uq.scenario.errors import MISSING, ScenarioError
 from uq.scenario.types import (
     Analysis, Battery, Decision, DragCoefficient, Fouling, GliderPolar, GliderSetpoint,
     GliderVehicle, HullGeometry, Leg, Limits, PropellerSetpoint, PropellerVehicle,
-    RankCorrelation, Scenario, TestCandidate, Value,
+    RankCorrelation, Scenario, TestCandidate,
 )
 
 __all__ = ["load_scenario", "parse_scenario"]

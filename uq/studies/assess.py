@@ -31,13 +31,12 @@ from typing import Any, Callable
 
 import numpy as np
 
-from physics.states import FAILURE_MODE_NAMES
 from uq import decisions, estimators
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
 from uq.sampling.inputs import InputModel
-from uq.sampling.plans import SampleDesign
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
 from uq.scenario import Scenario
-from uq.simulate import NominalResult, ScenarioModel, nominal
+from uq.simulate import FAILURE_MODE_NAMES, NominalResult, Outcomes, ScenarioModel, nominal
 
 __all__ = [
     "OUTPUT_KEYS",
@@ -53,9 +52,7 @@ __all__ = [
 ]
 
 #: per-sample outputs kept from the propagation (plus the input values themselves)
-OUTPUT_KEYS = ("range_km", "range_censored", "arrived", "reaches_recovery", "success",
-               "failure_mode",
-               "failing_leg", "duration_days", "margin_Wh", "margin_fraction")
+OUTPUT_KEYS = Outcomes.__dataclass_fields__.keys()
 _RANGE_QUANTILES = (0.05, 0.1, 0.5, 0.9, 0.95)
 _DURATION_QUANTILES = (0.5, 0.9, 0.95)
 #: outputs whose Sobol indices are reported, with their units
@@ -75,7 +72,7 @@ class Settings:
     confidence: float
     workers: int = 1
     chunk_blocks: int = 1
-    block_size: int = 2**15
+    block_size: int = DEFAULT_BLOCK_SIZE
     polynomial_chaos: bool = True
 
     @property
@@ -109,7 +106,7 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
         confidence=scenario.decision.confidence,
         workers=int(overrides.get("workers") or 1),
         chunk_blocks=int(overrides.get("chunk_blocks") or 1),
-        block_size=int(overrides.get("block_size") or 2**15),
+        block_size=int(overrides.get("block_size") or DEFAULT_BLOCK_SIZE),
         polynomial_chaos=overrides.get("polynomial_chaos", True),
     )
 
@@ -134,7 +131,7 @@ class _ModelWithInputs:
     model: ScenarioModel
 
     def __call__(self, x: np.ndarray) -> dict[str, np.ndarray]:
-        out = self.model(x)
+        out = dict(self.model(x))
         out["inputs"] = x
         return out
 
@@ -144,7 +141,7 @@ class Propagation:
     """Per-sample outcomes of the main sample and the estimators built on them."""
 
     designs: tuple[SampleDesign, ...]
-    outcomes: dict[str, np.ndarray]  # pooled over replicates, plan order
+    outcomes: Outcomes  # pooled over replicates, plan order
     inputs: np.ndarray  # (n, d) physical input values, same rows
     input_names: tuple[str, ...]
     p_success: estimators.IntervalEstimate
@@ -206,7 +203,7 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
     done = 0
     for design in designs:
         reducer = MultiReducer({
-            "rows": CollectReducer(OUTPUT_KEYS + ("inputs",), design.n),
+            "rows": CollectReducer(tuple(OUTPUT_KEYS) + ("inputs",), design.n),
             "success": CountReducer("success"),
             "arrived": CountReducer("reaches_recovery"),
         })
@@ -223,7 +220,7 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
         pieces.append(result["rows"])
         counts.append((result["success"].count, result["success"].n))
         arrive_counts.append((result["arrived"].count, result["arrived"].n))
-    outcomes = {k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS}
+    outcomes = Outcomes.from_columns({k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS})
     inputs = np.concatenate([p["inputs"] for p in pieces])[:, :d]
     conf = settings.confidence
     p_success, per_rep = _proportion(counts, settings.scheme, conf)
@@ -453,7 +450,7 @@ def package_versions() -> dict[str, str]:
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
-           block_size: int = 2**15, polynomial_chaos: bool = True,
+           block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
            progress: Callable[[str, int, int], None] | None = None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).

@@ -17,12 +17,11 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from physics import drag, propulsion, seawater
 from uq import decisions
 from uq.sampling.inputs import InputModel, ScipyMarginal
 from uq.sampling.plans import SampleDesign
-from uq.scenario import DragCoefficient, HullGeometry, Scenario
-from uq.simulate import ScenarioModel, nominal, nominal_inputs
+from uq.scenario import Scenario
+from uq.simulate import ScenarioModel, deterministic_optimum, nominal
 
 __all__ = [
     "SWEEPABLE",
@@ -35,7 +34,6 @@ __all__ = [
     "evaluate_on_shared_samples",
     "SweepResult",
     "sweep_setpoint",
-    "deterministic_optimum",
     "ComparisonResult",
     "compare_scenarios",
 ]
@@ -136,51 +134,6 @@ def inputs_from_shared(scenario: Scenario, columns: Sequence[int],
                             for m, c in zip(scenario.inputs, columns)])
 
 
-def deterministic_optimum(scenario: Scenario, field: str) -> float | None:
-    """Energy-optimal setpoint of the nominal (median-input) vehicle in still water.
-
-    Propeller: the closed-form minimum of energy per distance, U* = (eta P_h / (rho C_D A))^(1/3)
-    (see :func:`physics.propulsion.optimal_speed`), iterated because C_D depends on U through
-    the Reynolds number. Hotel load is the length-weighted mean over the legs; density and
-    viscosity are those of the longest leg. Gliders: None (no closed form is offered).
-    """
-    if scenario.vehicle.kind != "propeller" or field != "setpoint.speed_m_s":
-        return None
-    x = nominal_inputs(scenario)
-    values = {m.name: x[0, i] for i, m in enumerate(scenario.inputs)}
-
-    def val(v):
-        return float(v) if isinstance(v, (int, float)) else float(values[v.name])
-
-    legs = scenario.legs
-    lengths = np.array([val(leg.length_km) for leg in legs])
-    longest = legs[int(np.argmax(lengths))]
-    hotel_default = val(scenario.vehicle.hotel_load_W)
-    hotel = np.array([hotel_default if leg.hotel_load_W is None else val(leg.hotel_load_W)
-                      for leg in legs])
-    hotel_mean = float(np.sum(hotel * lengths) / np.sum(lengths))
-    t, sp = val(longest.temperature_C), val(longest.practical_salinity)
-    rho = float(seawater.density(sp, t, val(scenario.setpoint.depth_m)))
-    nu = float(seawater.kinematic_viscosity(t, sp, rho))
-    eta = val(scenario.vehicle.propulsive_efficiency)
-    body = scenario.vehicle.drag
-    speed = val(scenario.setpoint.speed_m_s)
-    for _ in range(20):
-        if isinstance(body, HullGeometry):
-            length, diameter = val(body.length_m), val(body.diameter_m)
-            cd = float(drag.hull_drag_coefficient(speed, length, diameter, nu,
-                                                  appendage_factor=val(body.appendage_factor)))
-            area = (float(drag.spheroid_wetted_area(length, diameter))
-                    if body.wetted_area_m2 is None else val(body.wetted_area_m2))
-        elif isinstance(body, DragCoefficient):
-            cd, area = val(body.coefficient), val(body.reference_area_m2)
-        new = float(propulsion.optimal_speed(rho, cd, area, eta, hotel_mean))
-        if abs(new - speed) < 1e-10:
-            break
-        speed = new
-    return speed
-
-
 @dataclass(frozen=True)
 class SweepResult:
     field: str
@@ -214,7 +167,7 @@ def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
         values,
         np.stack([o["success"] for o in outs]),
         np.stack([o["duration_days"] for o in outs]),
-        np.stack([o["arrived"] & (o["range_km"] >= o["route_km"]) for o in outs]),
+        np.stack([o.reaches_recovery for o in outs]),
         np.stack([o["margin_Wh"] for o in outs]),
         required_probability=scenario.decision.required_probability,
         confidence=scenario.decision.confidence,

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from physics import propulsion, seawater
+import gsw
 from uq.studies.assess import assess
 from uq.scenario import parse_scenario
 
@@ -39,8 +39,9 @@ def test_p_success_interval_covers_the_analytic_probability():
     # derived: energy drawn = (1/2 rho U^3 C_D A / eta + P_h) L / U; success iff
     # 0.8 E_nom >= that, so P = P(E_nom >= needed / 0.8) for E_nom ~ U(4500, 6500) Wh
     scenario = _battery_only_uncertain()
-    rho = float(seawater.density(35.0, 10.0, 0.0))
-    per_m = float(propulsion.propeller_energy_per_distance(rho, 1.0, 0.1, 0.3, 0.4, 40.0))
+    sa = gsw.SR_from_SP(35.0)  # TEOS-10 through gsw itself (no position)
+    rho = float(gsw.rho(sa, gsw.CT_from_t(sa, 10.0, 0.0), 0.0))
+    per_m = 0.5 * rho * 1.0 ** 2 * 0.1 * 0.3 / 0.4 + 40.0 / 1.0  # the closed form, written out
     needed_Wh = per_m * 200e3 / 3600.0 / 0.8
     p_true = stats.uniform(4500.0, 2000.0).sf(needed_Wh)
     assert 0.2 < p_true < 0.8  # the case is informative

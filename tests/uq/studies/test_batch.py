@@ -11,16 +11,13 @@ import pandas as pd
 import pytest
 
 from uq.sampling import backends
-from uq.studies.batch import (
+from uq.scenario.study_file import (
     StudyFileError,
-    StudyOutputError,
     StudySettingsError,
     VariantScenarioError,
     load_study,
-    run_study,
-    study_main,
-    write_study,
 )
+from uq.studies.batch import StudyOutputError, run_study, study_main, write_study
 from uq.studies.sweeps import evaluate_on_shared_samples
 
 CONFIGS = Path(__file__).resolve().parents[3] / "configs"
@@ -223,7 +220,7 @@ def test_numbers_do_not_depend_on_workers_or_chunking(tmp_path, scheme, replicat
 
 
 def test_settings_are_checked():
-    from uq.studies.batch import parse_study
+    from uq.scenario.study_file import parse_study
 
     with pytest.raises(backends.BackendError, match="workers must be an integer >= 1; got 0"):
         with backends.local_executor(0):

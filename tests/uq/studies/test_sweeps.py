@@ -5,12 +5,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from physics import propulsion, seawater
+import gsw
 from uq.scenario import parse_scenario
+from uq.simulate import deterministic_optimum
 from uq.studies.sweeps import (
     StudyError,
     compare_scenarios,
-    deterministic_optimum,
     evaluate_on_shared_samples,
     sweep_setpoint,
     with_setpoint,
@@ -47,9 +47,12 @@ def test_sweep_optimum_tends_to_the_closed_form_speed_as_uncertainty_vanishes():
     # U* = (eta P_h / (rho C_D A))^(1/3); with all samples succeeding the robust choice falls to
     # the largest mean margin, i.e. the least energy per km
     scenario = _still_water_propeller(spread=1e-6)
-    rho = float(seawater.density(35.0, 10.0, 0.0))
-    u_star = float(propulsion.optimal_speed(rho, 0.1, 0.3, 0.4, 40.0))
-    assert deterministic_optimum(scenario, "setpoint.speed_m_s") == pytest.approx(u_star, rel=1e-9)
+    # TEOS-10 density through gsw itself (SP 35, 10 degC, surface; no position: SR_from_SP)
+    sa = gsw.SR_from_SP(35.0)
+    rho = float(gsw.rho(sa, gsw.CT_from_t(sa, 10.0, 0.0), 0.0))
+    u_star = (0.4 * 40.0 / (rho * 0.1 * 0.3)) ** (1.0 / 3.0)  # the closed form, written out
+    # tolerance: the bounded minimiser's xatol 1e-9 on a flat minimum
+    assert deterministic_optimum(scenario, "setpoint.speed_m_s") == pytest.approx(u_star, rel=1e-6)
     grid = np.round(np.arange(0.60, 1.40, 0.02), 2)
     result = sweep_setpoint(scenario, "setpoint.speed_m_s", grid, samples=64)
     assert all(r.probability_of_success == 1.0 for r in result.summary.rows)
