@@ -30,8 +30,11 @@ How a leg's inputs are made (one rule for every field):
   empirical-quantile shape because R is small (tens) and the energy of a leg is close to
   linear in the along-track current, so its mean and variance are what the answer depends
   on; tails beyond the data are the normal's, which the report says.
-* **Dependence.** The Spearman rank correlation of every pair of data-derived inputs over the
-  same R realizations feeds the scenario's Gaussian copula. If the matrix (or its copula form
+* **Dependence.** The Spearman rank correlation of every pair of data-derived current
+  components (along and across, all legs) over the same R realizations feeds the scenario's
+  Gaussian copula. Temperature and salinity enter the transit only through seawater density
+  (a small effect on buoyancy and drag) and are left independent; their time-only spread is
+  nearly rank-identical across legs and would add a near-singular block for no gain. If the matrix (or its copula form
   2 sin(pi r/6)) is not comfortably positive definite it is shrunk toward the identity by
   the smallest listed amount that fixes it; the amount is reported.
 * **Seabed and ice.** ``seabed_m`` is the shallowest bathymetry along the leg less the
@@ -63,6 +66,7 @@ _TEMPERATURE_RANGE = (-3.0, 40.0)   # the scenario's range of in-situ temperatur
 _SALINITY_RANGE = (0.0, 42.0)       # the scenario's range of practical salinity
 _SHRINKAGE = (0.0, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5)
 _MIN_EIGENVALUE = 1e-3
+_CORRELATED = ("current_along_m_s", "current_across_m_s")  # fields whose dependence is estimated
 _SD_FLOOR = 1e-9                    # below this spread a field is taken as fixed
 
 
@@ -123,8 +127,10 @@ def fit_marginal(values: np.ndarray, field: str) -> tuple[Any, str]:
         return mean, "fixed (no spread across the realizations)"
     if field in ("temperature_C", "practical_salinity"):
         lo, hi = _TEMPERATURE_RANGE if field == "temperature_C" else _SALINITY_RANGE
-        return ({"dist": "truncnormal", "mean": mean, "sd": sd, "low": lo, "high": hi},
-                f"normal by moments, truncated to [{lo:g}, {hi:g}]")
+        low = max(mean - 6.0 * sd, lo + 1e-6)
+        high = min(mean + 6.0 * sd, hi - 1e-6)
+        return ({"dist": "truncnormal", "mean": mean, "sd": sd, "low": low, "high": high},
+                "normal by moments, truncated at 6 sd")
     return {"dist": "normal", "mean": mean, "sd": sd}, "normal by moments"
 
 
@@ -518,7 +524,7 @@ class _Environment:
         correlate = self.table.get("correlate", True)
         if not isinstance(correlate, bool):
             raise ScenarioError(self.file, "environment.correlate", correlate, "true or false")
-        names = list(self.columns)
+        names = [n for n in self.columns if n.endswith(_CORRELATED)]
         pairs: list[DataCorrelation] = []
         shrink = 0.0
         if correlate and len(names) > 1 and self.realizations > 2:

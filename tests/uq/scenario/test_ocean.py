@@ -231,3 +231,14 @@ def test_depth_positive_up_and_kelvin_and_percent_are_converted(tmp_path):
     sc = _scenario(tmp_path, f'temperature = {{file = "{name}"}}')
     # derived: at the running depth 50 m: 4 + 0.02 * 350 = 11 degC (no spread: fixed)
     assert sc.legs[0].temperature_C == pytest.approx(11.0, abs=1e-9)
+
+
+def test_bundled_data_demo_loads_with_data_derived_legs():
+    from uq.scenario.demos import DATA_DEMO, demo_path
+
+    with demo_path(DATA_DEMO) as path:
+        sc = load_scenario(path)
+    assert len(sc.route) == 4 and len(sc.legs) == 4
+    fields = {(s.leg, s.field) for s in sc.environment if s.file == "sollen_sea.nc"}
+    assert ("corran_basin", "current_along_m_s") in fields and ("shelf_departure", "seabed_m") in fields
+    assert sc.data_correlations and all(-1.0 < c.rank < 1.0 for c in sc.data_correlations)
