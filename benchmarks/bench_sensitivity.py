@@ -1,8 +1,10 @@
 """On-demand benchmark of the two sensitivity paths (not part of the test suite).
 
-(a) Sobol' indices from PCE coefficients vs chaospy's Sens_m + Sens_t on the
-    same expansion: Ishigami, 3 inputs, total degree 8 (165 terms).
-    Targets: >= 1000x faster, max |difference| <= 1e-8.
+(a) Sobol' indices from PCE coefficients (Sudret 2008) on one expansion: Ishigami, 3 inputs,
+    total degree 8 (165 terms). The baseline is the same coefficient-sum method as a
+    competent user writes it (a Python loop over the terms); chaospy's Sens_m + Sens_t
+    (conditional-expectation algebra) is listed apart, as the reference for the values.
+    Targets: max |difference| <= 1e-8 against chaospy.
 (b) Model runs needed: PCE total indices within 0.02 of a Saltelli reference
     at base N = 2^16 using at most 1/100 of its runs; Ishigami and a smooth
     5-input function.
@@ -55,6 +57,21 @@ CASES = {
 }
 
 
+def coefficient_sum_by_loop(coefficients, multi_indices):
+    """First and total Sobol indices from an orthonormal PCE, term by term in plain Python.
+
+    Sudret 2008, Reliab. Eng. Syst. Saf. 93(7):964-979: S_i sums c_a^2 over the terms with
+    only input i active, S_Ti over the terms where input i is active, both over the variance
+    sum of c_a^2 for a != 0.
+    """
+    terms = [(float(c), [int(v) for v in a]) for c, a in zip(coefficients, multi_indices)]
+    d = len(terms[0][1])
+    variance = sum(c * c for c, a in terms if any(a))
+    first = [sum(c * c for c, a in terms if a[i] > 0 and sum(a) == a[i]) / variance for i in range(d)]
+    total = [sum(c * c for c, a in terms if a[i] > 0) / variance for i in range(d)]
+    return np.array(first), np.array(total)
+
+
 def part_a(rng_seed: int = 0) -> None:
     print("(a) Sobol' from coefficients vs chaospy Sens_m + Sens_t, Ishigami, degree 8")
     rng = np.random.default_rng(rng_seed)
@@ -67,13 +84,19 @@ def part_a(rng_seed: int = 0) -> None:
     reps = 2000
     t_ours = timeit.timeit(pce.sobol_indices, number=reps) / reps
     ours = pce.sobol_indices()
+    t_loop = timeit.timeit(lambda: coefficient_sum_by_loop(pce.coefficients, pce.multi_indices),
+                           number=200) / 200
+    loop_first, loop_total = coefficient_sum_by_loop(pce.coefficients, pce.multi_indices)
+    assert np.allclose(loop_first, ours.first, atol=1e-12) and np.allclose(loop_total, ours.total, atol=1e-12)
     t0 = time.perf_counter()
     first_ref, total_ref = chaospy_reference_indices(pce)
     t_ref = time.perf_counter() - t0
     diff = max(np.abs(ours.first - first_ref).max(), np.abs(ours.total - total_ref).max())
-    print(f"    coefficients: {t_ours * 1e6:9.1f} us per call (mean of {reps})")
-    print(f"    chaospy     : {t_ref:9.2f} s (one run; builds the polynomial + Sens_m + Sens_t)")
-    print(f"    speed ratio : {t_ref / t_ours:9.3g} x   (target >= 1000)")
+    print(f"    coefficients (project): {t_ours * 1e6:9.1f} us per call (mean of {reps})")
+    print(f"    coefficients (loop)   : {t_loop * 1e6:9.1f} us per call  -> ratio {t_loop / t_ours:.1f}x"
+          "   (the baseline: same method, plain Python)")
+    print(f"    chaospy Sens_m+Sens_t : {t_ref:9.2f} s (one run; a different, symbolic method,"
+          f" listed apart: {t_ref / t_ours:.3g}x)")
     print(f"    max |diff|  : {diff:9.2e}   (target <= 1e-8)")
 
 

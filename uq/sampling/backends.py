@@ -8,8 +8,8 @@ numbers bit for bit.
 
 * :func:`local_executor` — this process for one worker, a
   :class:`concurrent.futures.ProcessPoolExecutor` otherwise.
-* :class:`DaskExecutor` — a ``distributed`` client. Every task is submitted up front with
-  ``retries``; results are gathered one future at a time in submission order, so the
+* :class:`DaskExecutor` — a ``distributed`` client. The objects every task shares (the model,
+  the plan, the reducer) go to the cluster once; every task is submitted up front; results are gathered one future at a time in submission order, so the
   engine's ``progress`` callback advances as results arrive from the cluster. When a worker
   is lost mid-run, the scheduler re-runs its tasks elsewhere; because a task's result depends
   only on the task (the plan's rows are regenerated from the design record), the result is
@@ -94,6 +94,10 @@ def local_executor(workers: int) -> Iterator[ProcessPoolExecutor | None]:
         yield pool
 
 
+def _identity(obj: Any) -> Any:
+    return obj
+
+
 class DaskExecutor:
     """Ordered ``.map`` over a ``distributed.Client`` for :func:`uq.sampling.engine.stream`.
 
@@ -101,19 +105,24 @@ class DaskExecutor:
     ----------
     client : distributed.Client
         A connected client (the caller owns it and closes it).
-    retries : int, default 3
-        Times the scheduler re-runs a task whose function raised, on top of its own
-        rescheduling of tasks lost with a worker [-].
+    retries : int, default 0
+        Times the scheduler re-runs a task whose *function raised* [-]. The default is 0: the
+        model is deterministic, so a task that raised once raises again; tasks lost with a
+        worker are rescheduled by Dask's scheduler regardless of this setting.
 
     Notes
     -----
-    ``map`` submits every task at once with ``client.map(fn, tasks, retries=retries,
-    pure=False)`` — ``pure=False`` so that equal-looking tasks are never merged — and then
-    yields ``future.result()`` for each future in submission order. If the consumer stops
-    early (an error downstream), the futures not yet collected are cancelled.
+    A task of the engine is a tuple (design, model, reducer, input model, first block, last
+    block); every task carries the same model and plan objects. ``map`` sends each object that
+    all tasks share to the cluster once (as a small task that returns it, so a lost copy is
+    recomputed like any lost result) and gives the tasks a reference to it, so a task's payload is a few hundred bytes whatever the model's size. It then submits
+    every task with ``client.map(fn, tasks, retries=retries, pure=False)`` — ``pure=False`` so
+    that equal-looking tasks are never merged — and yields ``future.result()`` in submission
+    order. If the consumer stops early (an error downstream), the futures not yet collected
+    are cancelled.
     """
 
-    def __init__(self, client: Any, *, retries: int = 3) -> None:
+    def __init__(self, client: Any, *, retries: int = 0) -> None:
         if isinstance(retries, bool) or not isinstance(retries, (int, np.integer)) or retries < 0:
             raise BackendError(f"retries must be an integer >= 0; got {retries!r}")
         self.client = client
@@ -121,9 +130,24 @@ class DaskExecutor:
 
     def map(self, fn: Callable[[Any], Any], iterable: Iterable[Any]) -> Iterator[Any]:
         """Submit ``fn(task)`` for every task now; return an iterator of results in order."""
-        tasks = list(iterable)
+        tasks = self._scatter_shared_parts(list(iterable))
         futures = self.client.map(fn, tasks, retries=self.retries, pure=False) if tasks else []
         return self._results(futures)
+
+    def _scatter_shared_parts(self, tasks: list) -> list:
+        """Tasks with every object that all of them share replaced by one scattered copy."""
+        if len(tasks) < 2 or not all(isinstance(t, tuple) for t in tasks):
+            return tasks
+        width = len(tasks[0])
+        shared = [i for i in range(width)
+                  if not isinstance(tasks[0][i], (int, float, str, bytes, type(None)))
+                  and all(len(t) == width and t[i] is tasks[0][i] for t in tasks)]
+        if not shared:
+            return tasks
+        # a task that returns the object (not client.scatter): if the worker holding it is lost,
+        # the scheduler recomputes it from the task, as it does for every other lost result
+        refs = {i: self.client.submit(_identity, tasks[0][i], pure=False) for i in shared}
+        return [tuple(refs.get(i, part) for i, part in enumerate(t)) for t in tasks]
 
     def _results(self, futures: list) -> Iterator[Any]:
         done = 0
@@ -143,7 +167,7 @@ class DaskExecutor:
 
 @contextmanager
 def dask_executor(scheduler: str | None = None, *, local_workers: int | None = None,
-                  retries: int = 3) -> Iterator[DaskExecutor]:
+                  retries: int = 0) -> Iterator[DaskExecutor]:
     """A :class:`DaskExecutor` on a running cluster or on a loopback ``LocalCluster``.
 
     Parameters

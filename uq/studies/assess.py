@@ -422,6 +422,30 @@ class Assessment:
     def p_success(self) -> estimators.IntervalEstimate:
         return self.propagation.p_success
 
+    def __repr__(self) -> str:
+        # a notebook echoes the object: one line, not the 60,000 characters of every array
+        p = self.propagation.p_success
+        return (f"<Assessment {self.scenario.name!r}: {self.verdict.verdict.upper()}, "
+                f"P(success) {p.estimate:.1%} ({p.confidence:.0%} CI {p.lower:.1%} to "
+                f"{p.upper:.1%}) against {self.scenario.decision.required_probability:.1%} "
+                f"required; {self.propagation.samples:,} samples, seed {self.settings.seed}>")
+
+    def _repr_html_(self) -> str:
+        """Rich display in a notebook: the verdict sentence and the headline figures."""
+        import html
+
+        p = self.propagation.p_success
+        rows = [("verdict", self.verdict.verdict.upper()),
+                ("P(success)", f"{p.estimate:.1%} ({p.confidence:.0%} CI {p.lower:.1%} to {p.upper:.1%})"),
+                ("required", f"{self.scenario.decision.required_probability:.1%}"),
+                ("samples / seed", f"{self.propagation.samples:,} / {self.settings.seed}")]
+        if self.contingency is not None:
+            rows.append(("ship time", self.contingency.sentence))
+        body = "".join(f"<tr><th style='text-align:left'>{html.escape(k)}</th>"
+                       f"<td style='text-align:left'>{html.escape(v)}</td></tr>" for k, v in rows)
+        return (f"<div><strong>{html.escape(self.scenario.name)}</strong>: "
+                f"{html.escape(self.verdict.sentence)}<table>{body}</table></div>")
+
     def sensitivity_ranking(self) -> list[dict]:
         """Inputs ranked by total index of the failure indicator (then of range)."""
         if self.sensitivity is None:
@@ -452,8 +476,13 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
            block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
-           progress: Callable[[str, int, int], None] | None = None) -> Assessment:
+           progress: Callable[[str, int, int], None] | None = None,
+           executor=None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
+
+    ``executor``: any object with an ordered ``.map(fn, iterable)`` (e.g. from
+    :func:`uq.sampling.backends.dask_executor`); when given, ``workers`` is not used. The
+    numbers do not depend on the executor, the worker count or ``chunk_blocks``.
 
     With ``target_half_width`` the propagation doubles its sample size until the half-width
     of the P(success) interval is at most that (e.g. 0.01) or ``max_samples`` is reached; the
@@ -468,7 +497,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     stage_seeds = np.random.SeedSequence(settings.seed, spawn_key=(2**31,)).spawn(3)
     timings: dict[str, float] = {}
     cautions: list[str] = []
-    pool = ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext()
+    pool = (nullcontext(executor) if executor is not None
+            else ProcessPoolExecutor(settings.workers) if settings.workers > 1 else nullcontext())
     with warnings.catch_warnings(record=True) as caught, pool as executor:
         warnings.simplefilter("always")
         t0 = time.perf_counter()

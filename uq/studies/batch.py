@@ -238,6 +238,20 @@ class StudyResult:
         """One row per variant: the varied fields, then the figures."""
         return pd.DataFrame([v.row(self.study.fields) for v in self.variants])
 
+    def __repr__(self) -> str:
+        counts = {}
+        for v in self.variants:
+            counts[v.verdict.verdict] = counts.get(v.verdict.verdict, 0) + 1
+        tally = ", ".join(f"{n} {k.upper()}" for k, n in sorted(counts.items()))
+        return (f"<StudyResult {self.study.name!r}: {len(self.variants)} variants ({tally}); "
+                f"{self.samples:,} samples each, seed {self.seed}>")
+
+    def _repr_html_(self) -> str:
+        """Rich display in a notebook: one row per variant."""
+        frame = self.to_frame()
+        keep = [*self.study.fields, "p_success", "p_success_low", "p_success_high", "verdict"]
+        return frame[["variant", *[c for c in keep if c in frame]]].to_html(index=False)
+
     def variant(self, name: str) -> VariantResult:
         for v in self.variants:
             if v.name == name:

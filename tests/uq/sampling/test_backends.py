@@ -52,8 +52,14 @@ def test_dask_executor_keeps_order_and_numbers():
                                   dashboard_address=None) as cluster, \
             distributed.Client(cluster, set_as_default=False) as client:
         ex = backends.DaskExecutor(client)
+        assert ex.retries == 0  # a deterministic model that raised once raises again
         assert list(ex.map(_square, range(10))) == [i * i for i in range(10)]
         on_dask = _run(ex)
+        # what all tasks share is sent once: tasks carry a reference, not the object
+        model = object()
+        tasks = ex._scatter_shared_parts([(model, 0, 1), (model, 1, 2)])
+        assert isinstance(tasks[0][0], distributed.Future) and tasks[0][0] is tasks[1][0]
+        assert tasks[1][1:] == (1, 2)
     serial = _run(None)
     assert on_dask["hits"] == serial["hits"] and on_dask["sum"] == serial["sum"]
 
@@ -62,3 +68,23 @@ def test_dask_executor_refuses_both_an_address_and_a_local_cluster():
     with pytest.raises(backends.BackendError, match="not both"):
         with backends.dask_executor("tcp://127.0.0.1:1", local_workers=2):
             pass
+
+
+def test_an_assessment_on_dask_equals_the_local_one():
+    distributed = pytest.importorskip("distributed", reason="the [dask] extra is not installed")
+    from pathlib import Path
+
+    from uq.scenario import load_scenario
+    from uq.studies.assess import assess
+
+    scenario = load_scenario(Path(__file__).resolve().parents[3] / "configs" / "under_ice_section.toml")
+    kw = dict(samples=512, replicates=2, sensitivity_base_n=0, block_size=128)
+    local = assess(scenario, **kw)
+    with distributed.LocalCluster(n_workers=1, threads_per_worker=2, processes=False,
+                                  dashboard_address=None) as cluster, \
+            distributed.Client(cluster, set_as_default=False) as client:
+        on_dask = assess(scenario, **kw, executor=backends.DaskExecutor(client))
+    assert on_dask.p_success == local.p_success
+    assert on_dask.propagation.mean_margin_Wh == local.propagation.mean_margin_Wh
+    np.testing.assert_array_equal(on_dask.propagation.outcomes.margin_Wh,
+                                  local.propagation.outcomes.margin_Wh)

@@ -28,3 +28,12 @@ def test_one_variant_study_equals_the_assessment(scheme, samples, replicates):
     assert row.verdict.sentence == a.verdict.sentence
     assert row.mean_margin_Wh == a.propagation.mean_margin_Wh
     assert row.contingency.to_dict() == a.contingency.to_dict()
+
+
+def test_notebook_display_is_short():
+    # a notebook echoes the result: one line, with the verdict and its interval
+    a = assess(load_scenario(CONFIGS / "under_ice_section.toml"), samples=256, replicates=2,
+               sensitivity_base_n=0)
+    text = repr(a)
+    assert len(text) < 300 and "\n" not in text and a.verdict.verdict.upper() in text
+    assert "<table>" in a._repr_html_() and "P(success)" in a._repr_html_()
