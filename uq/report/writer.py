@@ -26,6 +26,7 @@ import pandas as pd
 
 from uq.report import figures as fig_mod
 from uq.report._format import Formatter, finite_or_none
+from uq.report.exports import write_sample_exports
 from uq.report.summary import build_summary, nominal_dict
 from uq.simulate import glide_operating_point
 
@@ -205,6 +206,7 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     _step(progress, "tables")
     _write_tables(a, folder, sweep=sweep, sweep_summary=sweep_summary, comparison=comparison,
                   pair=pair)
+    write_sample_exports(a, folder)  # samples.nc / samples.parquet with the ocean extra
 
     _step(progress, "figures")
     images = _make_figures(a, figdir, sweep_summary=sweep_summary)
