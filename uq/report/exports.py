@@ -80,12 +80,15 @@ def write_samples_netcdf(assessment, path: str | os.PathLike) -> Path:
     import xarray as xr
 
     frame = samples_frame(assessment)
-    ds = xr.Dataset({c: ("sample", _column(frame[c])) for c in frame.columns},
+    names = _netcdf_names(frame.columns)
+    ds = xr.Dataset({names[c]: ("sample", _column(frame[c])) for c in frame.columns},
                     coords={"sample": np.arange(len(frame), dtype="int64")},
                     attrs=export_attributes(assessment))
-    for name in assessment.propagation.input_names:
-        ds[name].attrs["long_name"] = name
-        ds[name].attrs["role"] = "uncertain input (scenario file units)"
+    inputs = set(assessment.propagation.input_names)
+    for c in frame.columns:
+        ds[names[c]].attrs["long_name"] = str(c)
+        if c in inputs:
+            ds[names[c]].attrs["role"] = "uncertain input (scenario file units)"
     path = Path(path)
     ds.to_netcdf(path)
     return path
@@ -126,6 +129,21 @@ def write_sample_exports(assessment, folder: str | os.PathLike) -> tuple[str, ..
 
 def _have(module: str) -> bool:
     return importlib.util.find_spec(module) is not None
+
+
+def _netcdf_names(columns) -> dict:
+    """Column -> netCDF variable name: '/' (the HDF5 group separator) becomes '_', kept unique;
+    the column's own name stays in the variable's ``long_name``."""
+    out: dict = {}
+    used: set[str] = set()
+    for c in columns:
+        name = str(c).replace("/", "_") or "_"
+        base, k = name, 1
+        while name in used:
+            name, k = f"{base}_{k}", k + 1
+        used.add(name)
+        out[c] = name
+    return out
 
 
 def _column(series: pd.Series) -> np.ndarray:
