@@ -22,6 +22,10 @@ class FailureMode(IntEnum):
     INFEASIBLE_GLIDE = 3
     #: arrives, but later than the mission's duration limit
     TIME_LIMIT = 4
+    # 5 and 6 are taken by the glider's trim and flight limits
+    #: turned back under ice at the point of no return (or where a current stopped it) and
+    #: flew back to a safe exit: the vehicle is safe, the mission aborted
+    TURNED_BACK = 7
 
 
 #: plain-language names for tables and the report
@@ -31,4 +35,5 @@ FAILURE_MODE_NAMES = {
     FailureMode.NO_HEADWAY: "no headway against current",
     FailureMode.INFEASIBLE_GLIDE: "infeasible glide",
     FailureMode.TIME_LIMIT: "over the duration limit",
+    FailureMode.TURNED_BACK: "turned back to a safe exit",
 }

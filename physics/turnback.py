@@ -49,11 +49,13 @@ class UnderIceOutcome(NamedTuple):
     point_of_no_return: np.ndarray  # first x* on an ice leg [m]; inf: none before the goal
     turned_back: np.ndarray  # bool: aborted and flew back to a safe exit
     turn_position: np.ndarray  # where it turned back [m]; inf where it did not
+    turn_leg: np.ndarray  # int16 leg where it turned back; -1 where it did not
     return_energy: np.ndarray  # energy of the return flight [J] (0 where not turned)
     return_duration: np.ndarray  # [s] (0 where not turned)
     arrival_energy: np.ndarray  # loiter + homing demand at the recovery point [J]
     arrival_duration: np.ndarray  # loiter + homing time [s]
     margin: np.ndarray  # energy above the reserve after the recovery-point demand [J]
+    margin_fraction: np.ndarray  # margin / usable energy when recovered [-]
     success: np.ndarray  # bool: transit success that also affords loiter and homing
     reaches_recovery: np.ndarray  # bool: recovered at the goal, possibly on the reserve
     lost_under_ice: np.ndarray  # bool: neither recovered nor returned, ends on an ice leg
@@ -127,9 +129,16 @@ def arrival_demand(loiter_power, loiter_time, homing_power, homing_speed, homing
     duration : ndarray
         T_l + d_h / U_h [s].
     """
-    homing_time = np.asarray(homing_distance, dtype=float) / np.asarray(homing_speed, dtype=float)
-    drawn = (np.asarray(loiter_power, dtype=float) * np.asarray(loiter_time, dtype=float)
-             + np.asarray(homing_power, dtype=float) * homing_time)
+    distance = np.asarray(homing_distance, dtype=float)
+    speed = np.asarray(homing_speed, dtype=float)
+    moving = speed > 0.0
+    # a vehicle that cannot move cannot home: infinite time (a named state, not NaN)
+    homing_time = np.where(distance > 0.0,
+                           np.where(moving, distance / np.where(moving, speed, 1.0), np.inf), 0.0)
+    homing_energy = np.where(homing_time > 0.0,
+                             np.asarray(homing_power, dtype=float) * homing_time, 0.0)
+    drawn = np.asarray(loiter_power, dtype=float) * np.asarray(loiter_time, dtype=float) \
+        + homing_energy
     return drawn / np.asarray(capacity_factor, dtype=float), \
         np.asarray(loiter_time, dtype=float) + homing_time
 
@@ -274,14 +283,17 @@ def under_ice_outcome(
     arrival_energy, arrival_duration = arrival_demand(
         loiter_power, loiter_time, end.power, end.speed_through_water, homing_distance,
         charge[:, last])
-    arrival_energy = np.broadcast_to(arrival_energy, (n,))
-    arrival_duration = np.broadcast_to(arrival_duration, (n,))
+    # only a vehicle at the recovery point spends it
+    arrival_energy = np.where(transit.arrived, arrival_energy, 0.0)
+    arrival_duration = np.where(transit.arrived, arrival_duration, 0.0)
     finished = transit.duration + arrival_duration
     margin = np.where(transit.arrived,
                       battery.drawable(finished) - e[:, -1] - arrival_energy,
                       np.minimum(transit.margin, 0.0))
+    usable_end = battery.usable(finished)
+    margin_fraction = np.divide(margin, usable_end, out=np.zeros(n), where=usable_end > 0)
     success = transit.success & (margin >= 0.0)
-    reaches = transit.arrived & (e[:, -1] + arrival_energy <= battery.usable(finished))
+    reaches = transit.arrived & (e[:, -1] + arrival_energy <= usable_end)
 
     # --- the decision --------------------------------------------------------------------------
     turned = np.zeros(n, dtype=bool)
@@ -327,11 +339,14 @@ def under_ice_outcome(
         point_of_no_return=x_pnr,
         turned_back=turned,
         turn_position=turn_x,
+        turn_leg=np.where(turned, _leg_at(np.where(turned, turn_x, 0.0), bounds),
+                          -1).astype(np.int16),
         return_energy=return_energy,
         return_duration=return_duration,
         arrival_energy=np.array(arrival_energy),
         arrival_duration=np.array(arrival_duration),
         margin=margin,
+        margin_fraction=margin_fraction,
         success=success,
         reaches_recovery=reaches,
         lost_under_ice=lost,

@@ -16,7 +16,8 @@ import numpy as np
 import pandas as pd
 from scipy import optimize
 
-from physics import drag, glide, lift, mission, seawater
+from physics import battery as cells
+from physics import drag, glide, lift, mission, propulsion, seawater, turnback
 from physics.states import FAILURE_MODE_NAMES, FailureMode
 from uq.errors import InputError
 from uq.scenario import (
@@ -87,20 +88,43 @@ def _leg_water(scenario: Scenario, f: _Fields, depth: np.ndarray):
     return rho, nu
 
 
+def _propeller_setpoints(scenario: Scenario, f: _Fields, cruise: np.ndarray | None = None):
+    """Speed through water [m/s] and depth [m] per leg, (n, J) or (n, 1) without overrides.
+
+    ``cruise`` [m/s] replaces the [setpoint] speed (legs with their own speed keep it).
+    """
+    sp = scenario.setpoint
+    legs = scenario.legs
+    cruise = f(sp.speed_m_s) if cruise is None else np.broadcast_to(
+        np.asarray(cruise, dtype=float), (f.n,))
+    depth = f.legs(legs, "depth_m", fallback=f(sp.depth_m)) if any(
+        leg.depth_m is not None for leg in legs) else f(sp.depth_m)[:, None]
+    per_leg = any(leg.speed_m_s is not None for leg in legs) or sp.min_ground_speed_m_s is not None
+    if not per_leg:
+        return cruise, depth
+    speed = f.legs(legs, "speed_m_s", fallback=cruise)
+    if sp.min_ground_speed_m_s is not None:
+        ceiling = speed if scenario.vehicle.max_speed_m_s is None else \
+            f(scenario.vehicle.max_speed_m_s)[:, None]
+        speed = propulsion.speed_to_hold_ground_speed(
+            speed, f(sp.min_ground_speed_m_s)[:, None], f.legs(legs, "current_along_m_s"),
+            f.legs(legs, "current_across_m_s"), ceiling)
+    return speed, depth
+
+
 def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray, *,
                      speed: np.ndarray | None = None) -> mission.PropellerRates:
     """Propeller rates per sample and leg; ``speed`` [m/s] overrides the setpoint if given."""
     vehicle: PropellerVehicle = scenario.vehicle
-    speed = f(scenario.setpoint.speed_m_s) if speed is None else np.broadcast_to(
-        np.asarray(speed, dtype=float), (f.n,))
-    depth = f(scenario.setpoint.depth_m)[:, None]
+    speed, depth = _propeller_setpoints(scenario, f, speed)
     rho, nu = _leg_water(scenario, f, depth)
+    leg_speed = speed if speed.ndim == 2 else speed[:, None]
     body = vehicle.drag
     if isinstance(body, HullGeometry):
         length = f(body.length_m)[:, None]
         diameter = f(body.diameter_m)[:, None]
         coefficient = drag.hull_drag_coefficient(
-            speed[:, None], length, diameter, nu, appendage_factor=f(body.appendage_factor)[:, None]
+            leg_speed, length, diameter, nu, appendage_factor=f(body.appendage_factor)[:, None]
         )
         area = (drag.spheroid_wetted_area(length, diameter) if body.wetted_area_m2 is None
                 else f(body.wetted_area_m2)[:, None])
@@ -109,11 +133,17 @@ def _propeller_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray, *,
         area = f(body.reference_area_m2)[:, None]
     else:  # pragma: no cover - the loader admits only the two
         raise TypeError(f"unknown hull description {type(body).__name__}")
-    clean_drag = drag.drag_force(rho, speed[:, None], coefficient, area)
+    clean_drag = drag.drag_force(rho, leg_speed, coefficient, area)
+    efficiency = f(vehicle.propulsive_efficiency)
+    if vehicle.efficiency_curve is not None:
+        curve = vehicle.efficiency_curve
+        efficiency = np.ascontiguousarray(np.broadcast_to(propulsion.efficiency_at_speed(
+            leg_speed, efficiency[:, None], f(scenario.setpoint.speed_m_s)[:, None],
+            curve.speed_m_s, curve.efficiency), hotel.shape))
     return mission.PropellerRates(
         clean_drag=np.ascontiguousarray(clean_drag),
         speed=speed,
-        propulsive_efficiency=f(vehicle.propulsive_efficiency),
+        propulsive_efficiency=efficiency,
         hotel_load=hotel,
         drag_increase=f(scenario.fouling.drag_increase),
     )
@@ -149,12 +179,43 @@ def _glider_rates(scenario: Scenario, f: _Fields, hotel: np.ndarray) -> mission.
     )
 
 
+def _battery_by_leg(scenario: Scenario, f: _Fields):
+    """Capacity factor per leg (n, J) or 1.0, and self-discharge rate [1/s] of the pack."""
+    b = scenario.battery
+    table = None
+    if b.capacity_curve is not None:
+        table = (b.capacity_curve.temperature_C, b.capacity_curve.fraction)
+    elif b.chemistry is not None:
+        default = cells.CHEMISTRIES[b.chemistry]
+        table = (default.temperature, default.fraction)
+    capacity = 1.0 if table is None else cells.capacity_fraction(
+        f.legs(scenario.legs, "temperature_C"), *table)
+    if b.self_discharge_per_month is not None:
+        monthly = f(b.self_discharge_per_month)
+    elif b.chemistry is not None:
+        monthly = np.full(f.n, cells.CHEMISTRIES[b.chemistry].self_discharge_per_month)
+    else:
+        return capacity, 0.0
+    return capacity, cells.self_discharge_rate(monthly)
+
+
+def _ice_legs(scenario: Scenario):
+    """Legs under an ice ceiling (J,) and the leg boundaries named as safe exits (J+1,)."""
+    ice = np.array([leg.under_ice for leg in scenario.legs], dtype=bool)
+    names = [leg.name for leg in scenario.legs]
+    exits = np.zeros(len(names) + 1, dtype=bool)
+    for name in scenario.under_ice.safe_exits_after:
+        exits[names.index(name) + 1] = True
+    return ice, exits
+
+
 def _hotel(scenario: Scenario, f: _Fields) -> np.ndarray:
     """Hotel load on every leg [W], (n, J): the leg's own value, else the vehicle's."""
     return f.legs(scenario.legs, "hotel_load_W", fallback=f(scenario.vehicle.hotel_load_W))
 
 
-def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOutcome:
+def _transit(scenario: Scenario, x: np.ndarray, **options):
+    """Forward flight, under-ice outcome and hardware split of every sample row of ``x``."""
     f = _Fields(scenario, x)
     hotel = _hotel(scenario, f)
     if scenario.vehicle.kind == "propeller":
@@ -162,26 +223,45 @@ def _transit(scenario: Scenario, x: np.ndarray, **options) -> mission.TransitOut
     else:
         rates = _glider_rates(scenario, f, hotel)
     b = scenario.battery
+    capacity, self_discharge = _battery_by_leg(scenario, f)
     battery = mission.BatteryState(
         nominal_energy=f(b.nominal_energy_Wh) * _J_PER_WH,
         cold_derating=f(b.cold_derating),
-        fade_rate=f(b.fade_per_day) / SECONDS_PER_DAY,
+        fade_rate=f(b.fade_per_day) / SECONDS_PER_DAY + self_discharge,
         usable_fraction=f(b.usable_fraction),
         reserve_fraction=f(b.reserve_fraction),
     )
     fo = scenario.fouling
-    return mission.fly_route(
-        rates,
-        battery,
+    ice, exits = _ice_legs(scenario)
+    overhead = np.where(ice, f(scenario.under_ice.dead_reckoning_overhead)[:, None], 0.0)
+    route = dict(
         leg_length=f.legs(scenario.legs, "length_km") * 1000.0,
         current_along=f.legs(scenario.legs, "current_along_m_s"),
         current_across=f.legs(scenario.legs, "current_across_m_s"),
+        distance_overhead=overhead,
+        capacity_factor=capacity,
+    )
+    transit = mission.fly_route(
+        rates,
+        battery,
         fouling_growth_factor=f.legs(scenario.legs, "fouling_growth_factor"),
         fouling_onset=f(fo.onset_days) * SECONDS_PER_DAY,
         fouling_time_constant=f(fo.time_constant_days) * SECONDS_PER_DAY,
         max_duration=f(scenario.limits.max_duration_days) * SECONDS_PER_DAY,
+        **route,
         **options,
     )
+    rec = scenario.recovery
+    under_ice = turnback.under_ice_outcome(
+        rates, battery, transit, ice=ice, safe_boundary=exits,
+        loiter_power=f(rec.loiter_power_W), loiter_time=f(rec.loiter_time_h) * 3600.0,
+        homing_distance=f(rec.homing_distance_km) * 1000.0, policy=scenario.under_ice.policy,
+        min_ground_speed=options.get("min_ground_speed", 0.01), **route)
+    subsystems = scenario.hardware.subsystems
+    faults = turnback.fault_split(
+        under_ice, ice, [s.rate_per_day / SECONDS_PER_DAY for s in subsystems],
+        [s.weibull_shape for s in subsystems])
+    return transit, under_ice, faults
 
 
 @dataclass(frozen=True, eq=False)  # arrays have no single truth value: compare fields
@@ -208,6 +288,14 @@ class Outcomes:
     energy_per_km_Wh : energy drawn per km on each leg [Wh/km], (n, J); NaN on legs not flown
     route_energy_per_km_Wh : energy drawn over distance flown on the route [Wh/km], (n,)
     route_km : route length of each sample [km], (n,)
+    turned_back : aborted at the point of no return (or where a current stopped it under ice)
+        and flew back to a safe exit [bool], (n,)
+    lost_under_ice : neither recovered nor returned, ends on a leg under ice [bool], (n,)
+    point_of_no_return_km : first point of no return along the route [km], inf where the
+        vehicle could turn back anywhere short of the recovery point, (n,)
+    p_no_fault, p_fault_under_ice, p_fault_open_water : probability of no hardware fault
+        before the mission ends, of a first fault under ice (a loss) and in open water (a
+        recovery); they sum to 1 [-], (n,)
     """
 
     range_km: np.ndarray
@@ -223,6 +311,12 @@ class Outcomes:
     energy_per_km_Wh: np.ndarray
     route_energy_per_km_Wh: np.ndarray
     route_km: np.ndarray
+    turned_back: np.ndarray
+    lost_under_ice: np.ndarray
+    point_of_no_return_km: np.ndarray
+    p_no_fault: np.ndarray
+    p_fault_under_ice: np.ndarray
+    p_fault_open_water: np.ndarray
 
     # ---- mapping-style access by field name (reducers, tables) -------------------------------
     def __getitem__(self, key: str) -> np.ndarray:
@@ -300,21 +394,33 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> Outcomes:
 
     ``options`` go to :func:`physics.mission.fly_route` (e.g. ``min_ground_speed``).
     """
-    out = _transit(scenario, x, **options)
+    out, ice, faults = _transit(scenario, x, **options)
+    # a sample that reaches the recovery point but cannot afford loiter and homing above the
+    # reserve fails on energy at the last leg
+    short = out.success & ~ice.success & ~ice.turned_back
+    last = len(scenario.legs) - 1
     return Outcomes(
         range_km=out.range / 1000.0,
         range_censored=out.range_censored,
         arrived=out.arrived,
-        reaches_recovery=out.reaches_recovery,
-        success=out.success,
-        failure_mode=out.failure_mode,
-        failing_leg=out.failing_leg,
+        reaches_recovery=ice.reaches_recovery,
+        success=ice.success,
+        failure_mode=np.where(ice.turned_back, FailureMode.TURNED_BACK, np.where(
+            short, FailureMode.ENERGY, out.failure_mode)).astype(np.int8),
+        failing_leg=np.where(ice.turned_back, ice.turn_leg,
+                             np.where(short, last, out.failing_leg)).astype(np.int16),
         duration_days=out.duration / SECONDS_PER_DAY,
-        margin_Wh=out.margin / _J_PER_WH,
-        margin_fraction=out.margin_fraction,
+        margin_Wh=ice.margin / _J_PER_WH,
+        margin_fraction=ice.margin_fraction,
         energy_per_km_Wh=out.energy_per_distance * (1000.0 / _J_PER_WH),
         route_energy_per_km_Wh=out.route_energy_per_distance * (1000.0 / _J_PER_WH),
         route_km=np.broadcast_to(out.route_length / 1000.0, np.shape(out.range)),
+        turned_back=ice.turned_back,
+        lost_under_ice=ice.lost_under_ice,
+        point_of_no_return_km=ice.point_of_no_return / 1000.0,
+        p_no_fault=faults.no_fault,
+        p_fault_under_ice=faults.under_ice,
+        p_fault_open_water=faults.open_water,
     )
 
 

@@ -51,6 +51,10 @@ def _demo(name: str) -> dict:
     # simulate_arrays (correlations act in the sampler, tests in the decision layer)
     doc.pop("correlations", None)
     doc.get("decision", {}).pop("tests", None)
+    # the extremes check the transit's own failure states: no turn-back policy and no
+    # speed-up against head currents, which would turn those states into an abort or away
+    doc.pop("under_ice", None)
+    doc.get("setpoint", {}).pop("min_ground_speed_m_s", None)
     return doc
 
 
@@ -240,7 +244,8 @@ def _fix_every_input(doc: dict) -> dict:
         items = node.items() if isinstance(node, dict) else enumerate(node)
         for key, value in list(items):
             # a leg's input names use the leg's name, not its index
-            here = path + [value.get("name", key) if isinstance(node, list) else key]
+            named = isinstance(node, list) and isinstance(value, dict)
+            here = path + [value.get("name", key) if named else key]
             if isinstance(value, dict) and "dist" in value:
                 node[key] = medians[".".join(str(p) for p in here)]
             elif isinstance(value, (dict, list)):

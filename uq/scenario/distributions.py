@@ -67,6 +67,8 @@ _TRUNCATION_REACH_SD = 6.0
 # Key suffix -> unit; longest suffixes first so "_m_s" wins over "_s" and "_m".
 _UNIT_SUFFIXES = (
     ("_per_day", "1/day"),
+    ("_per_month", "1/month"),
+    ("_h", "h"),
     ("_m_s", "m/s"),
     ("_m2", "m^2"),
     ("_km", "km"),

@@ -36,9 +36,10 @@ import numpy as np
 from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
 from uq.scenario.errors import MISSING, ScenarioError
 from uq.scenario.types import (
-    Analysis, Battery, Decision, DragCoefficient, Fouling, GliderPolar, GliderSetpoint,
-    GliderVehicle, HullGeometry, Leg, Limits, PropellerSetpoint, PropellerVehicle,
-    RankCorrelation, Scenario, TestCandidate,
+    Analysis, Battery, CapacityCurve, Decision, DragCoefficient, EfficiencyCurve, Fouling,
+    GliderPolar, GliderSetpoint, GliderVehicle, Hardware, HullGeometry, Leg, Limits,
+    PropellerSetpoint, PropellerVehicle, RankCorrelation, Recovery, Scenario, Subsystem,
+    TestCandidate, UnderIce,
 )
 
 __all__ = ["load_scenario", "parse_scenario"]
@@ -189,6 +190,14 @@ CURRENT = _Range("a current component [m/s]")
 TEMPERATURE = _Range("an in-situ seawater temperature [degC]", -3.0, 40.0, False, False)
 SALINITY = _Range("a practical salinity (PSS-78)", 0.0, 42.0, True, False)
 PROBABILITY = _Range("a probability", 0.0, 1.0)
+SELF_DISCHARGE = _Range("a self-discharge [fraction per month]", 0.0, 0.5, False, True)
+OVERHEAD = _Range("a distance overhead (fraction of the leg length)", 0.0, 1.0, False, True)
+NONNEG_H = _Range("a time [h]", 0.0, lo_open=False)
+NONNEG_KM = _Range("a distance [km]", 0.0, lo_open=False)
+HAZARD = _Range("a hazard rate [1/day]", 0.0, 10.0, False, True)
+WEIBULL_SHAPE = _Range("a Weibull shape", 0.0, 20.0, True, False)
+CHEMISTRY_NAMES = ("lithium-ion", "lithium-primary")
+UNDER_ICE_POLICIES = ("continue", "turn-back")
 MONEY = _Range("an amount of money", 0.0, lo_open=False)
 CORRELATION = _Range("a rank correlation", -1.0, 1.0)
 
@@ -372,7 +381,8 @@ class _Reader:
 
     # ------------------------------------------------------------------ document
     _SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "fouling", "limits", "legs",
-                 "route", "environment", "correlations", "decision", "analysis")
+                 "route", "environment", "correlations", "recovery", "under_ice", "hardware",
+                 "decision", "analysis")
     _REQUIRED_SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "legs")
 
     def scenario(self, doc: Mapping[str, Any]) -> Scenario:
@@ -407,6 +417,12 @@ class _Reader:
                 parsed[key] = self.legs(value)
             elif key == "correlations":
                 parsed[key] = self.correlations_raw(value)
+            elif key == "recovery":
+                parsed[key] = self.recovery(value)
+            elif key == "under_ice":
+                parsed[key] = self.under_ice(value)
+            elif key == "hardware":
+                parsed[key] = self.hardware(value)
             elif key == "decision":
                 parsed[key] = self.decision(value)
             elif key == "analysis":
@@ -415,6 +431,19 @@ class _Reader:
 
         if kind == "glider":
             self.glider_windows(parsed["setpoint"], parsed["legs"])
+            for i, leg in enumerate(parsed["legs"]):
+                for key in ("speed_m_s", "depth_m"):
+                    if getattr(leg, key) is not None:
+                        self.fail(f"legs.{leg.name}.{key}", getattr(leg, key),
+                                  "no per-leg speed or depth for a glider (its setpoint is "
+                                  "a glide angle and a dive band)")
+        if "under_ice" in parsed:
+            names = [leg.name for leg in parsed["legs"]]
+            for name in parsed["under_ice"].safe_exits_after:
+                if name not in names:
+                    close = difflib.get_close_matches(name, names, n=1, cutoff=0.6)
+                    self.fail("under_ice.safe_exits_after", name, "the name of a leg of this "
+                              "route", close[0] if close else None)
         correlations = self.correlations_check(parsed.get("correlations", []) + self.data_correlations(
             route, parsed.get("correlations", [])))
         decision: Decision = parsed.get("decision", Decision())
@@ -434,6 +463,9 @@ class _Reader:
             decision=decision,
             analysis=parsed.get("analysis", Analysis()),
             correlations=correlations,
+            recovery=parsed.get("recovery", Recovery()),
+            under_ice=parsed.get("under_ice", UnderIce()),
+            hardware=parsed.get("hardware", Hardware()),
             inputs=tuple(self.inputs),
             route=route.route if route else (),
             environment=route.sources if route else (),
@@ -481,6 +513,9 @@ class _Reader:
             "propulsive_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
             "hull": lambda r, v, p: r.hull(v, p),
             "drag": lambda r, v, p: r.drag(v, p),
+            "efficiency_curve": lambda r, v, p: EfficiencyCurve(*r.curve(
+                v, p, ("speed_m_s", "efficiency"), POSITIVE_SPEED, EFFICIENCY)),
+            "max_speed_m_s": lambda r, v, p: r.number(v, p, POSITIVE_SPEED),
         }
         glider = {
             "pump_efficiency": lambda r, v, p: r.number(v, p, EFFICIENCY),
@@ -565,14 +600,45 @@ class _Reader:
             "fade_per_day": lambda r, v, p: r.number(v, p, FADE),
             "usable_fraction": lambda r, v, p: r.number(v, p, FRACTION_OPEN0_CLOSED1),
             "reserve_fraction": lambda r, v, p: r.number(v, p, FRACTION_CLOSED0_OPEN1),
+            "chemistry": lambda r, v, p: r.choice(v, p, CHEMISTRY_NAMES,
+                                                  what="the cell chemistry"),
+            "capacity_curve": lambda r, v, p: CapacityCurve(*r.curve(
+                v, p, ("temperature_C", "fraction"),
+                _Range("a cell temperature [degC]", -60.0, 80.0, False, False),
+                _Range("a capacity fraction", 0.0, 1.5, True, False))),
+            "self_discharge_per_month": lambda r, v, p: r.number(v, p, SELF_DISCHARGE),
         }
         return Battery(**self.read_fields(table, "battery", fields, ("nominal_energy_Wh",)))
+
+    def curve(self, value: Any, path: str, keys: tuple[str, str], x_range: _Range,
+              y_range: _Range) -> tuple[tuple[float, ...], tuple[float, ...]]:
+        """A table of two equal-length number lists, the first strictly increasing."""
+        table = self.table(value, path, how=f"a table {{{keys[0]} = [...], {keys[1]} = [...]}}")
+        for key in table:
+            if key not in keys:
+                self.unknown(key, table[key], path, list(keys))
+        columns = []
+        for key, rng in zip(keys, (x_range, y_range)):
+            sub = _join(path, key)
+            items = table.get(key, MISSING)
+            if items is MISSING:
+                self.fail(sub, MISSING, f"a list of numbers ({rng.what})")
+            if not isinstance(items, (list, tuple)) or len(items) < 2:
+                self.fail(sub, items, f"a list of two or more numbers ({rng.what})")
+            columns.append(tuple(self.number(v, sub, rng, uncertain=False) for v in items))
+        if len(columns[0]) != len(columns[1]):
+            self.fail(_join(path, keys[1]), list(table[keys[1]]),
+                      f"as many values as {path}.{keys[0]} ({len(columns[0])})")
+        if any(b <= a for a, b in zip(columns[0], columns[0][1:])):
+            self.fail(_join(path, keys[0]), list(table[keys[0]]), "strictly increasing values")
+        return columns[0], columns[1]
 
     def setpoint(self, value: Any, kind: str) -> PropellerSetpoint | GliderSetpoint:
         table = self.table(value, "setpoint")
         propeller = {
             "speed_m_s": lambda r, v, p: r.number(v, p, POSITIVE_SPEED),
             "depth_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
+            "min_ground_speed_m_s": lambda r, v, p: r.number(v, p, POSITIVE_SPEED),
         }
         glider = {
             "glide_angle_deg": lambda r, v, p: r.number(v, p, GLIDE_ANGLE),
@@ -620,6 +686,8 @@ class _Reader:
             "seabed_m": lambda r, v, p: r.number(v, p, POSITIVE_DEPTH),
             "fouling_growth_factor": lambda r, v, p: r.number(v, p, GROWTH),
             "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
+            "speed_m_s": lambda r, v, p: r.number(v, p, POSITIVE_SPEED),
+            "depth_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
         }
         seen: dict[str, int] = {}
         legs = []
@@ -650,6 +718,51 @@ class _Reader:
             self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", setpoint.bottom_depth_m,
                        "setpoint.bottom_depth_m", blame="a",
                        relation="an ice ceiling shallower than setpoint.bottom_depth_m (no room to glide)")
+
+    def recovery(self, value: Any) -> Recovery:
+        table = self.table(value, "recovery")
+        fields = {
+            "loiter_time_h": lambda r, v, p: r.number(v, p, NONNEG_H),
+            "loiter_power_W": lambda r, v, p: r.number(v, p, NONNEG_W),
+            "homing_distance_km": lambda r, v, p: r.number(v, p, NONNEG_KM),
+        }
+        return Recovery(**self.read_fields(table, "recovery", fields))
+
+    def under_ice(self, value: Any) -> UnderIce:
+        table = self.table(value, "under_ice")
+        fields = {
+            "policy": lambda r, v, p: r.choice(v, p, UNDER_ICE_POLICIES,
+                                               what="what to do at the point of no return"),
+            "safe_exits_after": lambda r, v, p: r.leg_names(v, p),
+            "dead_reckoning_overhead": lambda r, v, p: r.number(v, p, OVERHEAD),
+        }
+        return UnderIce(**self.read_fields(table, "under_ice", fields))
+
+    def leg_names(self, value: Any, path: str) -> tuple[str, ...]:
+        if not isinstance(value, (list, tuple)) or not all(isinstance(v, str) for v in value):
+            self.fail(path, value, "a list of leg names")
+        return tuple(value)
+
+    def hardware(self, value: Any) -> Hardware:
+        table = self.table(value, "hardware")
+        fields = {"subsystems": lambda r, v, p: r.subsystems(v, p)}
+        return Hardware(**self.read_fields(table, "hardware", fields))
+
+    def subsystems(self, value: Any, path: str) -> tuple[Subsystem, ...]:
+        if not isinstance(value, (list, tuple)):
+            self.fail(path, value, "an array of tables [[hardware.subsystems]]")
+        fields = {
+            "name": lambda r, v, p: r.text(v, p, what="the subsystem's name"),
+            "rate_per_day": lambda r, v, p: r.number(v, p, HAZARD, uncertain=False),
+            "weibull_shape": lambda r, v, p: r.number(v, p, WEIBULL_SHAPE, uncertain=False),
+        }
+        out = []
+        for i, item in enumerate(value):
+            item_path = f"{path}[{i}]"
+            table = self.table(item, item_path, how="a [[hardware.subsystems]] table")
+            out.append(Subsystem(**self.read_fields(table, item_path, fields,
+                                                    ("name", "rate_per_day"))))
+        return tuple(out)
 
     def correlations_raw(self, value: Any) -> list[tuple[int, tuple[str, str], float]]:
         if not isinstance(value, (list, tuple)):

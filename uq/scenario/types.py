@@ -20,6 +20,7 @@ __all__ = [
     "Value", "HullGeometry", "DragCoefficient", "PropellerVehicle", "GliderPolar",
     "GliderVehicle", "Battery", "PropellerSetpoint", "GliderSetpoint", "Fouling", "Leg",
     "Limits", "TestCandidate", "Decision", "RankCorrelation", "Analysis", "Scenario",
+    "CapacityCurve", "EfficiencyCurve", "Recovery", "UnderIce", "Subsystem", "Hardware",
 ]
 
 
@@ -51,11 +52,22 @@ class DragCoefficient:
 
 
 @dataclass(frozen=True)
+class EfficiencyCurve:
+    """Propulsive efficiency over speed through water; only its shape is used: the vehicle's
+    ``propulsive_efficiency`` holds at the [setpoint] speed and is scaled along the curve."""
+
+    speed_m_s: tuple[float, ...]
+    efficiency: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class PropellerVehicle:
     name: str
     hotel_load_W: Value
     propulsive_efficiency: Value
     drag: HullGeometry | DragCoefficient
+    efficiency_curve: EfficiencyCurve | None = None
+    max_speed_m_s: Value | None = None  # ceiling of the hold-ground-speed policy
     kind: str = field(default="propeller", init=False)
 
 
@@ -87,18 +99,33 @@ class GliderVehicle:
 
 
 @dataclass(frozen=True)
+class CapacityCurve:
+    """Deliverable capacity against cell temperature (fraction of the rated capacity)."""
+
+    temperature_C: tuple[float, ...]
+    fraction: tuple[float, ...]
+    source: str = "scenario file"
+
+
+@dataclass(frozen=True)
 class Battery:
     nominal_energy_Wh: Value
-    cold_derating: Value = 1.0  # fraction of nominal kept in cold water (0, 1]
+    #: with a capacity curve: the cell-to-cell / pack uncertainty on top of it; without one:
+    #: the fraction of nominal kept in cold water (0, 1]
+    cold_derating: Value = 1.0
     fade_per_day: Value = 0.0  # fraction of capacity lost per day [1/day]
     usable_fraction: Value = 1.0  # depth-of-discharge / usable share (0, 1]
     reserve_fraction: Value = 0.0  # policy: share of usable energy to arrive with [0, 1)
+    chemistry: str | None = None  # "lithium-ion" | "lithium-primary": default curve
+    capacity_curve: CapacityCurve | None = None  # applied per leg at the leg's temperature
+    self_discharge_per_month: Value | None = None  # None: the chemistry's default, else 0
 
 
 @dataclass(frozen=True)
 class PropellerSetpoint:
     speed_m_s: Value  # speed through water
     depth_m: Value = 50.0  # operating depth, for seawater pressure only
+    min_ground_speed_m_s: Value | None = None  # policy: speed up against head currents
 
 
 @dataclass(frozen=True)
@@ -129,6 +156,45 @@ class Leg:
     seabed_m: Value = float("inf")  # deepest allowed depth (seabed less clearance)
     fouling_growth_factor: Value = 1.0  # fouling clock rate on this leg
     hotel_load_W: Value | None = None  # override of the vehicle hotel load
+    speed_m_s: Value | None = None  # override of the setpoint speed (propeller)
+    depth_m: Value | None = None  # override of the setpoint depth (propeller)
+
+    @property
+    def under_ice(self) -> bool:
+        """True if the leg has an ice ceiling (median ceiling below the surface)."""
+        return _median(self.ice_ceiling_m) > 0.0
+
+
+@dataclass(frozen=True)
+class Recovery:
+    """What the vehicle spends at the recovery point before it is recovered."""
+
+    loiter_time_h: Value = 0.0  # waiting for the ship or an open hole
+    loiter_power_W: Value = 0.0
+    homing_distance_km: Value = 0.0  # homing / search at the recovery point
+
+
+@dataclass(frozen=True)
+class UnderIce:
+    """The turn-back policy under an ice ceiling."""
+
+    policy: str = "continue"  # "continue" | "turn-back"
+    safe_exits_after: tuple[str, ...] = ()  # legs whose end is a safe exit (an ice edge)
+    dead_reckoning_overhead: Value = 0.0  # extra distance flown under ice, fraction of leg
+
+
+@dataclass(frozen=True)
+class Subsystem:
+    """Hazard of one subsystem per day of operation (Weibull shape 1 = constant hazard)."""
+
+    name: str
+    rate_per_day: float
+    weibull_shape: float = 1.0
+
+
+@dataclass(frozen=True)
+class Hardware:
+    subsystems: tuple[Subsystem, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -196,6 +262,9 @@ class Scenario:
     decision: Decision
     analysis: Analysis
     correlations: tuple[RankCorrelation, ...] = ()
+    recovery: Recovery = Recovery()
+    under_ice: UnderIce = UnderIce()
+    hardware: Hardware = Hardware()
     inputs: tuple["Marginal", ...] = ()  # every uncertain field, file order
     source_path: str | None = None
     source_sha256: str | None = None
