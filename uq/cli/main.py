@@ -323,6 +323,9 @@ def _report(args, assessment, out: Path, console: _Console, **extra) -> Path:
 
 def _finish(console: _Console, assessment, folder: Path) -> None:
     console.result(assessment.verdict.sentence)
+    table = getattr(assessment.propagation, "outcome_table", None)
+    if table is not None:
+        console.result(table.sentence())
     console.result(f"Report: {folder / 'index.html'}")
 
 

@@ -49,6 +49,20 @@ def _comparison(comparison):
     return getattr(comparison, "comparison", comparison)
 
 
+def _outcome_keys(prop) -> dict[str, Any]:
+    """``outcomes``, ``point_of_no_return_km`` and ``hardware_risk`` of a propagation."""
+    table = getattr(prop, "outcome_table", None)
+    if table is None:
+        return {"outcomes": None, "point_of_no_return_km": None, "hardware_risk": None}
+    return {
+        "outcomes": table.to_dicts(),
+        "point_of_no_return_km": {
+            "share_with_point": table.share_with_point_of_no_return,
+            "quantiles": [interval_dict(q) for q in table.point_of_no_return_km]},
+        "hardware_risk": table.hardware.to_dict() if table.hardware is not None else None,
+    }
+
+
 def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
     """Headline figures, decisions and run record of ``assessment`` as JSON-ready builtins.
 
@@ -126,6 +140,7 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "surrogate": pce,
         "test_ranking": tests,
         "failure_modes": a.failures.to_dict(),
+        **_outcome_keys(prop),
         "pinned_inputs": {k: v.to_dict() for k, v in a.pinned.items()},
         "nominal": nominal_dict(a.nominal),
         "inputs": [

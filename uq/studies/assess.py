@@ -32,6 +32,7 @@ from typing import Any, Callable
 import numpy as np
 
 from uq import decisions, estimators
+from uq.decisions.outcome_table import outcome_table as tabulate_outcomes
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
 from uq.sampling.inputs import InputModel
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
@@ -152,6 +153,7 @@ class Propagation:
     duration_quantiles: tuple[estimators.QuantileInterval, ...]
     mean_margin_Wh: estimators.IntervalEstimate
     route_km: float
+    outcome_table: Any = None  # uq.decisions.OutcomeTable: classes, point of no return, faults
 
     @property
     def samples(self) -> int:
@@ -247,6 +249,10 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
             if settings.scheme == "sobol" and len(pieces) >= 2
             else estimators.mean_interval(outcomes["margin_Wh"], confidence=conf)),
         route_km=route,
+        outcome_table=tabulate_outcomes(
+            outcomes, replicate_sizes=[d.n for d in designs], scheme=settings.scheme,
+            confidence=conf, proportion=_proportion,
+            subsystems=len(scenario.hardware.subsystems)),
     )
 
 
