@@ -10,10 +10,12 @@ __all__ = [
     "CURRENT_POLICIES",
     "DRIFT",
     "GroundTrack",
+    "TrackComponents",
     "TrackMadeGood",
     "drift_track",
     "ground_track",
     "layered_current",
+    "track_components",
     "track_made_good",
 ]
 
@@ -202,3 +204,47 @@ def layered_current(surface_current, deep_current, layer_depth, top_depth, botto
     share = np.where(has_band, in_layer / np.where(has_band, band, 1.0),
                      (z_t < h).astype(float))
     return share * c_s + (1.0 - share) * c_d
+
+
+class TrackComponents(NamedTuple):
+    """A horizontal current resolved on a track line.
+
+    Attributes
+    ----------
+    along : ndarray
+        Component along the track c_a [m/s], positive when following.
+    across : ndarray
+        Component across the track c_x [m/s], positive to starboard of the track direction.
+    """
+
+    along: np.ndarray
+    across: np.ndarray
+
+
+def track_components(eastward, northward, bearing_deg):
+    """Along- and across-track components of a current on a track of a given bearing.
+
+    Parameters
+    ----------
+    eastward : array_like
+        Eastward current v_E [m/s].
+    northward : array_like
+        Northward current v_N [m/s].
+    bearing_deg : array_like
+        Track bearing beta [deg], clockwise from true north (a geodesic's forward azimuth).
+
+    Returns
+    -------
+    TrackComponents
+        Arrays of the broadcast shape of the inputs.
+
+    Notes
+    -----
+    c_a = v_N cos(beta) + v_E sin(beta) and c_x = -v_N sin(beta) + v_E cos(beta): the
+    projection on the unit vector along the track (sin beta, cos beta) in (east, north) and
+    on the unit vector to its starboard (cos beta, -sin beta) (derived: a rotation of axes).
+    """
+    v_e, v_n, beta = np.broadcast_arrays(
+        *(np.asarray(x, dtype=float) for x in (eastward, northward, bearing_deg)))
+    b = np.deg2rad(beta)
+    return TrackComponents(v_n * np.cos(b) + v_e * np.sin(b), -v_n * np.sin(b) + v_e * np.cos(b))

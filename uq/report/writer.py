@@ -24,6 +24,7 @@ from uq.report.files import (
 )
 from uq.report.pages import render_page
 from uq.report.summary import build_summary, nominal_dict, run_cautions
+from uq.report.exports import write_sample_exports
 from uq.simulate import glide_operating_point
 
 __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write_report",
@@ -129,6 +130,7 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     _step(progress, "tables")
     _write_tables(a, folder, sweep=sweep, sweep_summary=sweep_summary, comparison=comparison,
                   pair=pair)
+    write_sample_exports(a, folder)  # samples.nc / samples.parquet with the ocean extra
 
     _step(progress, "figures")
     images = _make_figures(a, figdir, sweep_summary=sweep_summary)

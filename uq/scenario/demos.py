@@ -11,10 +11,14 @@ from importlib import resources
 from pathlib import Path
 from typing import Iterator
 
-__all__ = ["DEMOS", "demo_path", "demo_text"]
+__all__ = ["DEMOS", "DATA_DEMO", "DATA_DEMO_FILES", "demo_path", "demo_text"]
 
 #: bundled demo scenarios, by vehicle kind
 DEMOS = {"propeller": "under_ice_section.toml", "glider": "glider_transit.toml"}
+#: the demo whose route is waypoints and whose environment comes from a bundled data file
+#: (needs the ocean extra); its files must sit side by side, as in the installed package
+DATA_DEMO = "sollen_sea_transit.toml"
+DATA_DEMO_FILES = (DATA_DEMO, "sollen_sea.nc")
 
 
 def _folder():

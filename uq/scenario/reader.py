@@ -31,6 +31,7 @@ import tomllib
 import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
+from dataclasses import fields as _dataclass_fields
 from typing import Any
 
 import numpy as np
@@ -322,6 +323,7 @@ CURRENT_POLICIES = ("crab", "drift", "crab_or_drift")
 SHIP_BOOKINGS = ("on_station", "recovery_window")
 
 _LEG_NAME = re.compile(r"[A-Za-z0-9_-]+")
+_LEG_KEYS = tuple(f.name for f in _dataclass_fields(Leg) if f.name != "name")  # per-leg keys of a waypoint
 _PLAIN_KEY = re.compile(r"[A-Za-z0-9_-]+")
 _CURRENCY = re.compile(r"[A-Z]{3}")
 SCHEMES = ("sobol", "monte-carlo", "latin-hypercube")
@@ -558,7 +560,8 @@ class _Reader:
 
     # ------------------------------------------------------------------ document
     _SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "fouling", "limits", "legs",
-                 "correlations", "recovery", "under_ice", "hardware", "decision", "analysis")
+                 "route", "environment", "correlations", "recovery", "under_ice", "hardware",
+                 "decision", "analysis")
     _REQUIRED_SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "legs")
 
     def scenario(self, doc: Mapping[str, Any]) -> Scenario:
@@ -566,6 +569,8 @@ class _Reader:
             if key not in self._SECTIONS:
                 self.unknown(key, value, "", list(self._SECTIONS))
         for key in self._REQUIRED_SECTIONS:
+            if key == "legs" and "route" in doc:
+                continue  # the legs come from the waypoints (uq.scenario.environment)
             if key not in doc:
                 how = "at least one [[legs]] table" if key == "legs" else f"a [{key}] section"
                 self.fail(key, MISSING, how)
@@ -602,6 +607,7 @@ class _Reader:
                 parsed[key] = self.decision(value)
             elif key == "analysis":
                 parsed[key] = self.analysis(value)
+        route = self.route(doc, parsed, kind) if "route" in doc or "environment" in doc else None
 
         if kind == "glider":
             self.glider_windows(parsed["setpoint"], parsed["legs"])
@@ -629,7 +635,8 @@ class _Reader:
                     close = difflib.get_close_matches(name, names, n=1, cutoff=0.6)
                     self.fail("under_ice.safe_exits_after", name, "the name of a leg of this "
                               "route", close[0] if close else None)
-        correlations = self.correlations_check(parsed.get("correlations", ()))
+        correlations = self.correlations_check(parsed.get("correlations", []) + self.data_correlations(
+            route, parsed.get("correlations", [])))
         decision: Decision = parsed.get("decision", Decision())
         for i, test in enumerate(decision.tests):
             for name in test.inputs:
@@ -659,7 +666,32 @@ class _Reader:
             under_ice=parsed.get("under_ice", UnderIce()),
             hardware=parsed.get("hardware", Hardware()),
             inputs=tuple(self.inputs),
+            route=route.route if route else (),
+            environment=route.sources if route else (),
+            data_correlations=route.correlations if route else (),
         )
+
+    def route(self, doc: Mapping[str, Any], parsed: dict[str, Any], kind: str):
+        """Legs from ``[route]`` waypoints, their fields from ``[environment]`` data files."""
+        from uq.scenario.environment import build_route  # opens files: only when asked
+
+        if "route" not in doc:
+            self.fail("route", MISSING, "a [route] of waypoints for the [environment] data to follow")
+        if "legs" in doc:
+            self.fail("legs", "[[legs]]", "either [[legs]] with lengths or a [route] of waypoints, not both")
+        built = build_route(doc["route"], doc.get("environment"), file=self.file,
+                            setpoint=parsed["setpoint"], kind=kind, leg_keys=_LEG_KEYS)
+        parsed["legs"] = self.legs(list(built.legs))
+        return built
+
+    @staticmethod
+    def data_correlations(route, given) -> list:
+        """Data-derived rank correlations, after the file's own (a pair in the file wins)."""
+        if route is None:
+            return []
+        stated = {frozenset(pair) for _, pair, _ in given}
+        return [(len(given) + k, c.inputs, c.rank) for k, c in enumerate(route.correlations)
+                if frozenset(c.inputs) not in stated]
 
     def header(self, value: Any) -> tuple[str, str]:
         table = self.table(value, "scenario")

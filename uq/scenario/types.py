@@ -312,6 +312,10 @@ class Scenario:
     source_sha256: str | None = None
     # implausible values and defaults taken for absent fields, one sentence each
     cautions: tuple[str, ...] = ()
+    # a waypoint route and the data behind its leg fields (uq.scenario.environment):
+    route: tuple = ()  # RouteLeg per leg (geodesic geometry), empty for leg-length routes
+    environment: tuple = ()  # FieldSource per data-derived leg field: file, window, method
+    data_correlations: tuple = ()  # DataCorrelation: rank correlations estimated from data
 
     @property
     def input_names(self) -> tuple[str, ...]:
