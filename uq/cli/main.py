@@ -137,12 +137,12 @@ def build_parser() -> argparse.ArgumentParser:
                    help=f"scenario file (TOML); default: the bundled demo {DEFAULT_DEMO}")
     levers = p.add_mutually_exclusive_group()
     levers.add_argument("--go-requirements", dest="go_requirements", action="store_const",
-                        const="always", default="unless-go",
-                        help="find the battery energy, setpoint and reserve that give GO even "
-                             "when the verdict is GO (the margin); by default only for NO-GO "
-                             "and UNDECIDED")
+                        const="always", default="never",
+                        help="also find the battery energy, setpoint and reserve fraction that "
+                             "give GO (for a GO: the margin); re-runs the model on shared "
+                             "samples, about a minute for the demos")
     levers.add_argument("--no-go-requirements", dest="go_requirements", action="store_const",
-                        const="never", help="skip the search for what would make it GO")
+                        const="never", help="skip the search for what would make it GO (default)")
     p.set_defaults(func=_cmd_assess)
 
     p = sub.add_parser("check", parents=[output],

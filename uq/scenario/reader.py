@@ -621,7 +621,7 @@ class _Reader:
         else:
             self.propeller_windows(parsed["setpoint"], parsed["legs"])
             self.battery_in_hull(parsed["vehicle"], parsed["battery"])
-            for i, item in enumerate(doc["legs"]):
+            for i, item in enumerate(doc.get("legs") or ()):  # a waypoint route has no [[legs]]
                 for key in ("flight_policy", "dives_per_surfacing", "payload_power_W",
                             "payload_duty_cycle"):
                     if isinstance(item, Mapping) and key in item:
