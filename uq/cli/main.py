@@ -445,6 +445,10 @@ class _CautionLines:
         self.pid, self.quiet, self.seen = os.getpid(), quiet, []
 
     def showwarning(self, message, category, filename, lineno, file=None, line=None):
+        # deprecations inside the libraries we call are for their developers, not a caution
+        # about the user's mission
+        if issubclass(category, (DeprecationWarning, PendingDeprecationWarning)):
+            return
         self.note(str(message).split("\n")[0])
 
     def note(self, text: str) -> None:

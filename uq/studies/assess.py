@@ -576,6 +576,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         if progress:
             progress("decisions", 1, 1)
     for w in caught:
+        if issubclass(w.category, (DeprecationWarning, PendingDeprecationWarning)):
+            continue  # a library's note to its developers, not a caution about the mission
         text = str(w.message).split("\n")[0]
         if text not in cautions:
             cautions.append(text)
