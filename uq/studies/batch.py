@@ -1,40 +1,7 @@
 """Batch studies: many variants of one base scenario on shared samples, on any backend.
 
-The study file and its variants are read by :mod:`uq.scenario.study_file`; this module runs them.
-
-A *study file* (TOML) names a base scenario and its variants, either as a ``[grid]`` of
-scenario fields and their values (every combination is a variant) or as explicit
-``[[variants]]`` with ``overrides``. Overrides are applied to the base scenario's raw TOML
-mapping *before* :func:`uq.scenario.parse_scenario`, so every variant is validated by the same
-reader as a scenario file, with the same one-line messages.
-
-Study file::
-
-    [study]
-    name = "speed-and-battery"            # required
-    description = "..."                   # optional
-    scenario = "under_ice_section.toml"   # required, relative to the study file
-    samples = 131072                      # optional; defaults from the scenario's [analysis]
-    seed = 20261203                       # optional
-    scheme = "sobol"                      # optional: sobol | monte-carlo | latin-hypercube
-    replicates = 8                        # optional, sobol only: samples / replicates = 2^m
-
-    [grid]                                # either a grid ...
-    "setpoint.speed_m_s" = [1.0, 1.2, 1.4]
-    "battery.nominal_energy_Wh" = [16000.0, 18000.0]
-
-    [[variants]]                          # ... or explicit variants (not both)
-    name = "heavy fouling"
-    overrides = {"fouling.drag_increase" = {dist = "pert", min = 0.3, mode = 0.5, max = 0.8}}
-
-A dotted path names one field of the base scenario: ``section.key``, ``vehicle.hull.key``, or
-``legs.<leg name>.key``. It must exist in the base scenario file (an optional field is varied
-by adding it there first); ``scenario.*`` and ``analysis.*`` cannot be overridden (the study
-sets the numerical settings for all variants). A value is anything the scenario accepts at
-that path: a number, a string, or a distribution table. When an override fixes a field that
-the base scenario had uncertain, the rank correlations and test-catalogue entries that name
-it are dropped from that variant (they would otherwise refer to an input that no longer
-exists).
+The study file and its variants are read by :mod:`uq.scenario.study_file` (its docstring
+describes the file); this module runs them.
 
 Common random numbers: one plan is drawn over the union of the variants' input names and
 each variant reads the columns of its inputs by name (:mod:`uq.studies`), through its own
