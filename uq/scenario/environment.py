@@ -55,7 +55,7 @@ from typing import Any
 import numpy as np
 
 from uq.scenario.errors import MISSING, ScenarioError
-from uq.scenario.ocean import OceanDataError, band_mean, file_sha256, open_field
+from uq.scenario.ocean import OceanDataError, band_bottom, band_mean, file_sha256, open_field
 from uq.scenario.route import (RouteLeg, geodesic_legs, leg_track, parse_time,
                                read_waypoints, require_extra, resolve_path)
 
@@ -255,6 +255,7 @@ class _Environment:
         self.cache: dict[str, Any] = {}
         self.sources: list[FieldSource] = []
         self.columns: dict[str, np.ndarray] = {}
+        self.cut: dict[int, float] = {}  # leg index -> band bottom at its shallowest point [m]
 
     # ------------------------------------------------------------------ settings
     def field_spec(self, name):
@@ -397,7 +398,11 @@ class _Environment:
         values = self.sample(field, leg_index)
         if "depth" in field.data.dims:
             top, bottom = self.band
-            values = band_mean(values, field.data["depth"].values, top, bottom)
+            levels = field.data["depth"].values
+            reach = band_bottom(values, levels, bottom)
+            if np.isfinite(reach) and reach < bottom:
+                self.cut[leg_index] = min(reach, self.cut.get(leg_index, bottom))
+            values = band_mean(values, levels, top, bottom)
         bad = ~np.isfinite(values)
         if bad.any():
             m, k, p = np.unravel_index(int(np.argmax(bad)), bad.shape)
@@ -459,6 +464,9 @@ class _Environment:
             self.columns[f"legs.{leg.name}.{name}"] = values
         depth = (f"at {self.band[0]:g} m" if self.band[0] == self.band[1]
                  else f"over {self.band[0]:g}-{self.band[1]:g} m")
+        if j in self.cut:
+            depth += (f" (cut at the seabed where shallower: down to {self.cut[j]:g} m at the "
+                      "shallowest point of the leg)")
         self.sources.append(FieldSource(
             leg=leg.name, field=name, value=_describe(table), file=os.path.basename(field.path),
             variables=variables, window=self.window_text(),

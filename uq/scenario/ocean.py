@@ -344,6 +344,11 @@ def depth_band_weights(levels: Sequence[float], top: float, bottom: float) -> np
     return trap @ rows / (bottom - top)
 
 
+def _deepest_valid(valid: np.ndarray) -> np.ndarray:
+    """Index of each column's deepest valid level (-1 where it has none)."""
+    return np.where(valid.any(-1), valid.shape[-1] - 1 - np.argmax(valid[..., ::-1], axis=-1), -1)
+
+
 def band_mean(values: np.ndarray, levels: np.ndarray, top: float, bottom: float) -> np.ndarray:
     """Depth-band mean of profiles ``values[..., level]``, cut at each profile's last valid level.
 
@@ -352,8 +357,7 @@ def band_mean(values: np.ndarray, levels: np.ndarray, top: float, bottom: float)
     """
     v = np.asarray(values, dtype=float)
     valid = np.isfinite(v)
-    # index of the deepest valid level of each column (-1 if none)
-    deepest = np.where(valid.any(-1), v.shape[-1] - 1 - np.argmax(valid[..., ::-1], axis=-1), -1)
+    deepest = _deepest_valid(valid)
     out = np.full(v.shape[:-1], np.nan)
     filled = np.where(valid, v, 0.0)
     for j in np.unique(deepest):
@@ -367,3 +371,17 @@ def band_mean(values: np.ndarray, levels: np.ndarray, top: float, bottom: float)
         ok = valid[sel][:, : j + 1] | (w == 0.0)
         out[sel] = np.where(ok.all(-1), col @ w, np.nan)  # a gap inside the band: refused
     return out
+
+
+def band_bottom(values: np.ndarray, levels: np.ndarray, bottom: float) -> float:
+    """The deepest depth [m] the band reaches at the shallowest column of ``values[..., level]``.
+
+    ``bottom`` where every column holds data down to it; shallower where the seabed (the
+    first NaN level from below) cuts the band as :func:`band_mean` does; NaN if no column
+    has data.
+    """
+    deepest = _deepest_valid(np.isfinite(np.asarray(values, dtype=float)))
+    deepest = deepest[deepest >= 0]
+    if deepest.size == 0:
+        return float("nan")
+    return min(float(bottom), float(np.asarray(levels, dtype=float)[int(deepest.min())]))

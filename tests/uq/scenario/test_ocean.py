@@ -12,7 +12,7 @@ pytest.importorskip("netCDF4", reason="netCDF files need the ocean extra: pip in
 from scipy import stats  # noqa: E402
 
 from uq.scenario import ScenarioError, load_scenario  # noqa: E402
-from uq.scenario.ocean import OceanDataError, band_mean, depth_band_weights  # noqa: E402
+from uq.scenario.ocean import OceanDataError, band_bottom, band_mean, depth_band_weights  # noqa: E402
 
 SCENARIO = '''
 [scenario]
@@ -94,6 +94,36 @@ def test_band_stops_at_the_seabed_and_refuses_land():
     got = band_mean(np.stack([deep, shelf, land]), z, 0.0, 400.0)
     # derived: deep: (100*1 + 100*2 + 200*3)/400 = 2.25; shelf (cut at 200 m): (100 + 200)/200 = 1.5
     assert got[0] == pytest.approx(2.25) and got[1] == pytest.approx(1.5) and np.isnan(got[2])
+
+
+def test_band_bottom_names_where_the_seabed_cuts_the_band():
+    z = np.array([0.0, 100.0, 200.0, 300.0, 400.0])
+    deep = np.array([1.0, 1.0, 3.0, 3.0, 3.0])
+    shelf = np.array([1.0, 1.0, 3.0, np.nan, np.nan])
+    # derived: the shelf column's last valid level is 200 m, so a 0-400 m band reaches 200 m
+    assert band_bottom(np.stack([deep, shelf]), z, 400.0) == 200.0
+    assert band_bottom(deep[None], z, 400.0) == 400.0          # nothing cut
+    assert band_bottom(deep[None], z, 250.0) == 250.0          # band ends above the seabed
+    assert math.isnan(band_bottom(np.full((1, 5), np.nan), z, 400.0))
+
+
+def test_method_text_says_where_the_seabed_cut_the_band(tmp_path):
+    # u = 0.2 m/s everywhere, but west of 1.0 deg E the grid has no data below 20 m (a bank):
+    # the 50 m running depth of the first leg (0.5 -> 1.5 E) is cut there at 20 m
+    coords = _grid(times=5)
+    lon = coords["lon"][1]
+    depth = np.asarray(coords["depth"][1])
+    u = np.full((5, depth.size, 11, lon.size), 0.2)
+    u[:, depth > 20.0, :, :] = np.where(lon < 1.0, np.nan, 0.2)[None, None, None, :]
+    dims = ("time", "depth", "lat", "lon")
+    name = _write(tmp_path, {"uo": _velocity(u, dims, "eastward_sea_water_velocity"),
+                             "vo": _velocity(np.zeros_like(u), dims, "northward_sea_water_velocity")},
+                  coords)
+    sc = _scenario(tmp_path, f'current = {{file = "{name}"}}')
+    src = {(s.leg, s.field): s.method for s in sc.environment}
+    assert "cut at the seabed" in src[("west", "current_along_m_s")]
+    assert "down to 20 m" in src[("west", "current_along_m_s")]
+    assert "cut at the seabed" not in src[("east", "current_along_m_s")]
 
 
 # ------------------------------------------------------------------------------- fitting
