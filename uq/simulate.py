@@ -300,6 +300,8 @@ def _transit(scenario: Scenario, x: np.ndarray, **options):
         distance_overhead=overhead,
         capacity_factor=capacity,
     )
+    if not ice.any():  # turn-back reads only the leg boundaries of the profile then
+        options = {"profile_steps": 1, **options}
     transit = mission.fly_route(
         rates,
         battery,
