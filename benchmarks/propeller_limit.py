@@ -39,16 +39,17 @@ def propeller_transit(clean_drag, speed, efficiency, hotel, drag_increase, leg_l
                       *, extension=0.5, newton_steps=6, min_ground_speed=0.01):
     """Range [m], duration to the route end [s] and margin at the end [J] of every sample.
 
-    Arrays are (n, J) per leg or (n,) per sample, SI units. Samples without headway on some
-    leg get range at the stop, duration inf and margin -inf (the benchmark compares the
-    others).
+    Arrays are (n, J) per leg or (n,) per sample (speed and efficiency may be either), SI
+    units. Samples without headway on some leg get range at the stop, duration inf and margin
+    -inf (the benchmark compares the others).
     """
     n, legs = clean_drag.shape
-    u = speed[:, None]
+    u = speed if np.ndim(speed) == 2 else speed[:, None]
+    eta = efficiency if np.ndim(efficiency) == 2 else efficiency[:, None]
     ground = np.sqrt(np.maximum(u * u - current_across ** 2, 0.0)) + current_along
-    moving = np.all(ground > min_ground_speed, axis=1) & np.all(u[:, 0:1] > np.abs(current_across), axis=1)
-    power_clean = clean_drag * u / efficiency[:, None] + hotel          # [W]
-    power_fouling = clean_drag * u * drag_increase[:, None] / efficiency[:, None]
+    moving = np.all(ground > min_ground_speed, axis=1) & np.all(u > np.abs(current_across), axis=1)
+    power_clean = clean_drag * u / eta + hotel          # [W]
+    power_fouling = clean_drag * u * drag_increase[:, None] / eta
     lengths = np.append(leg_length, leg_length[:, -1:] * 0 + extension * leg_length.sum(1, keepdims=True), axis=1)
     cols = list(range(legs)) + [legs - 1]  # the extension flies the last leg's conditions
 
@@ -95,7 +96,8 @@ def propeller_transit_scalar(clean_drag, speed, efficiency, hotel, drag_increase
                              current_along, current_across, growth, onset, tau, drawable0,
                              fade_rate, *, extension=0.5, newton_steps=6, min_ground_speed=0.01):
     """One sample of :func:`propeller_transit` in plain Python with ``math``: what a competent
-    user writes when they loop over samples (lists of floats in, three floats out)."""
+    user writes when they loop over samples (lists of floats in, three floats out); speed and
+    efficiency are floats or per-leg lists."""
     import math
 
     def phi_integral(c0, c1):
@@ -114,14 +116,16 @@ def propeller_transit_scalar(clean_drag, speed, efficiency, hotel, drag_increase
     rng = duration = margin = None
     for seg in range(legs + 1):
         j = min(seg, legs - 1)
-        if speed <= abs(current_across[j]):
+        u = speed[j] if isinstance(speed, list) else speed
+        eta = efficiency[j] if isinstance(efficiency, list) else efficiency
+        if u <= abs(current_across[j]):
             return x, math.inf, -math.inf
-        g = math.sqrt(speed * speed - current_across[j] ** 2) + current_along[j]
+        g = math.sqrt(u * u - current_across[j] ** 2) + current_along[j]
         if g <= min_ground_speed:
             return x, math.inf, -math.inf
         k = growth[j]
-        p0 = clean_drag[j] * speed / efficiency + hotel[j]
-        p1 = clean_drag[j] * speed * drag_increase / efficiency
+        p0 = clean_drag[j] * u / eta + hotel[j]
+        p1 = clean_drag[j] * u * drag_increase / eta
         span = lengths[seg] / g
 
         def gap(s):

@@ -74,18 +74,22 @@ def ground_track(speed_through_water, current_along, current_across):
         *(np.asarray(x, dtype=float) for x in (speed_through_water, current_along,
                                                 current_across))
     )
+    ground_speed, headway, can_hold = _crab_speed(u, c_along, c_across)
     cross = np.abs(c_across)
-    can_hold = u > cross
-    through_water_along = np.sqrt(np.where(can_hold, u**2 - cross**2, 0.0))
-    speed = through_water_along + c_along
-    headway = can_hold & (speed > 0.0)
     u_safe = np.where(can_hold, u, 1.0)
     crab = np.where(headway, np.arcsin(np.where(can_hold, cross / u_safe, 0.0)), np.pi / 2.0)
-    return GroundTrack(
-        ground_speed=np.where(headway, speed, 0.0),
-        crab_angle=crab,
-        headway=headway,
-    )
+    return GroundTrack(ground_speed=ground_speed, crab_angle=crab, headway=headway)
+
+
+def _crab_speed(u, c_along, c_across):
+    """Ground speed made good holding the track line (0.0 without headway), the headway, and
+    where the vehicle can hold the line at all (u > |c_x|): :func:`ground_track` without the
+    crab angle."""
+    cross = np.abs(c_across)
+    can_hold = u > cross
+    speed = np.sqrt(np.where(can_hold, u * u - cross * cross, 0.0)) + c_along
+    headway = can_hold & (speed > 0.0)
+    return np.where(headway, speed, 0.0), headway, can_hold
 
 
 def drift_track(speed_through_water, current_along, current_across):
@@ -163,14 +167,18 @@ def track_made_good(speed_through_water, current_along, current_across, policy=C
     -------
     TrackMadeGood
     """
-    crab = ground_track(speed_through_water, current_along, current_across)
-    drift = drift_track(speed_through_water, current_along, current_across)
-    code = np.broadcast_to(np.asarray(policy), crab.ground_speed.shape)
-    choose_drift = (code == DRIFT) | ((code == CRAB_OR_DRIFT)
-                                      & (drift.ground_speed > crab.ground_speed))
+    u, c_along, c_across = np.broadcast_arrays(
+        *(np.asarray(x, dtype=float) for x in (speed_through_water, current_along,
+                                                current_across)))
+    crab_speed, crab_headway, _ = _crab_speed(u, c_along, c_across)
+    code = np.broadcast_to(np.asarray(policy), crab_speed.shape)
+    if not np.any(code != CRAB):  # every leg crabs: no drift to weigh
+        return TrackMadeGood(crab_speed, crab_headway, np.zeros(crab_speed.shape, dtype=bool))
+    drift = drift_track(u, c_along, c_across)
+    choose_drift = (code == DRIFT) | ((code == CRAB_OR_DRIFT) & (drift.ground_speed > crab_speed))
     return TrackMadeGood(
-        ground_speed=np.where(choose_drift, drift.ground_speed, crab.ground_speed),
-        headway=np.where(choose_drift, drift.headway, crab.headway),
+        ground_speed=np.where(choose_drift, drift.ground_speed, crab_speed),
+        headway=np.where(choose_drift, drift.headway, crab_headway),
         drifting=choose_drift & drift.headway,
     )
 

@@ -2,7 +2,7 @@
 
 import numpy as np
 
-__all__ = ["FoulingInputError", "fouling_state", "fouling_state_integral"]
+__all__ = ["FoulingInputError", "fouling_growth", "fouling_state", "fouling_state_integral"]
 
 
 class FoulingInputError(ValueError):
@@ -84,15 +84,49 @@ def fouling_state_integral(clock_start, clock_end, onset, time_constant):
     """
     c0 = np.asarray(clock_start, dtype=float)
     c1 = np.asarray(clock_end, dtype=float)
+    forward = c1 >= c0
+    if np.all(forward):
+        return fouling_growth(c0, c1, onset, time_constant)[0]
+    integral, _ = fouling_growth(np.minimum(c0, c1), np.maximum(c0, c1), onset, time_constant)
+    return np.where(forward, integral, -integral)
+
+
+def fouling_growth(clock_start, clock_end, onset, time_constant):
+    """Integral of the fouling state over the clock and the state at its end, together.
+
+    Parameters
+    ----------
+    clock_start, clock_end, onset, time_constant : array_like
+        As for :func:`fouling_state_integral` [s], with c_0 <= c_1.
+
+    Returns
+    -------
+    integral : ndarray
+        I = integral of phi dc from c_0 to c_1 [s].
+    state : ndarray
+        phi(c_1) [-], as :func:`fouling_state` gives it.
+
+    Notes
+    -----
+    With a = max(c_0, c_on), d = max(c_1, c_on) - a, e_a = exp(-(a - c_on)/tau) and
+    m = expm1(-d/tau) (derived): I = d + tau e_a m and phi(c_1) = (1 - e_a) - e_a m, one pair
+    of exponentials for both (what a transit needs at every profile column).
+    """
+    c0 = np.asarray(clock_start, dtype=float)
+    c1 = np.asarray(clock_end, dtype=float)
     on = np.asarray(onset, dtype=float)
     tau = np.asarray(time_constant, dtype=float)
     _check_time_constant(tau)
-    sign = np.where(c1 >= c0, 1.0, -1.0)
-    a = np.maximum(np.minimum(c0, c1), on)
-    b = np.maximum(np.maximum(c0, c1), on)
-    d = b - a
+    a = np.maximum(c0, on)
+    d = np.maximum(c1, on) - a
     growing = np.isfinite(tau) & (tau > 0.0)
-    tau_safe = np.where(growing, tau, 1.0)
-    integral = d + tau_safe * np.exp(-(a - on) / tau_safe) * np.expm1(-d / tau_safe)
-    integral = np.where(growing, integral, np.where(tau == 0.0, d, 0.0))
-    return sign * integral
+    every = bool(np.all(growing))
+    tau_safe = tau if every else np.where(growing, tau, 1.0)
+    e_a = np.exp((on - a) / tau_safe)
+    m = np.expm1(-d / tau_safe)
+    integral = d + tau_safe * e_a * m
+    state = (1.0 - e_a) - e_a * m
+    if not every:
+        integral = np.where(growing, integral, np.where(tau == 0.0, d, 0.0))
+        state = np.where(growing, state, np.where((tau == 0.0) & (c1 > on), 1.0, 0.0))
+    return integral, state

@@ -244,105 +244,40 @@ def under_ice_outcome(
     path = 1.0 + np.broadcast_to(np.asarray(distance_overhead, dtype=float), shape)
     charge = np.broadcast_to(np.asarray(capacity_factor, dtype=float), shape)
     bounds = np.concatenate([np.zeros((n, 1)), np.cumsum(leg_length, axis=1)], axis=1)
-    route = bounds[:, -1]
-    exit_of = last_safe_exit(ice, safe_boundary)
-    x, t, e = prof.position, prof.elapsed, prof.energy
-    cols = np.arange(n)
-    per_column = _columns(battery)  # the same battery, broadcasting over profile columns
-
-    # --- the point of no return -------------------------------------------------------------
-    e_back, t_back = _return_costs(rates, prof, bounds, ice, exit_of, c_along, c_across, path,
-                                   charge, min_ground_speed)
-    finite = np.isfinite(t_back)
-    spare = np.where(finite, per_column.drawable(t + np.where(finite, t_back, 0.0)) - e - e_back,
-                     -np.inf)
-    on_ice = ice[prof.leg]
-    crossed = on_ice[None, :] & (spare <= 0.0)
-    crossed[:, 0] = False
-    has_pnr = crossed.any(axis=1)
-    k = np.where(has_pnr, np.argmax(crossed, axis=1), 1)
-    g0, g1 = spare[cols, k - 1], spare[cols, k]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        frac = np.where(g0 > 0.0, g0 / np.where(np.isfinite(g1), g0 - g1, np.inf), 0.0)
-    frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
-
-    def at_pnr(values):
-        v0, v1 = values[cols, k - 1], values[cols, k]
-        return np.where(frac > 0.0, v0 + frac * (v1 - v0), v0)
-
-    x_pnr = np.where(has_pnr, at_pnr(x), np.inf)
-    # the return cost at x*: zero from an open-water column, linear on the ice leg
-    e_back_pnr = np.where(frac > 0.0, at_pnr(np.where(np.isfinite(e_back), e_back, 0.0)),
-                          e_back[cols, k - 1])
-    t_back_pnr = np.where(frac > 0.0, at_pnr(np.where(np.isfinite(t_back), t_back, 0.0)),
-                          t_back[cols, k - 1])
-
-    # --- the recovery-point demand ----------------------------------------------------------
-    last = n_legs - 1
-    end = rates(last, prof.fouling[:, -1])
+    e_back, t_back = _return_costs(rates, prof, bounds, ice, last_safe_exit(ice, safe_boundary),
+                                   c_along, c_across, path, charge, min_ground_speed)
+    pnr = _point_of_no_return(battery, prof, ice, e_back, t_back)
+    # --- the recovery-point demand: only a vehicle at the recovery point spends it ----------
+    end = rates(n_legs - 1, prof.fouling[:, -1])
     arrival_energy, arrival_duration = arrival_demand(
         loiter_power, loiter_time, end.power, end.speed_through_water, homing_distance,
-        charge[:, last])
-    # only a vehicle at the recovery point spends it
+        charge[:, -1])
     arrival_energy = np.where(transit.arrived, arrival_energy, 0.0)
     arrival_duration = np.where(transit.arrived, arrival_duration, 0.0)
     finished = transit.duration + arrival_duration
-    margin = np.where(transit.arrived,
-                      battery.drawable(finished) - e[:, -1] - arrival_energy,
+    e_last = prof.energy[:, -1]
+    margin = np.where(transit.arrived, battery.drawable(finished) - e_last - arrival_energy,
                       np.minimum(transit.margin, 0.0))
     usable_end = battery.usable(finished)
     margin_fraction = np.divide(margin, usable_end, out=np.zeros(n), where=usable_end > 0)
-    success = transit.success & (margin >= 0.0)
-    reaches = transit.arrived & (e[:, -1] + arrival_energy <= usable_end)
-
-    # --- the decision --------------------------------------------------------------------------
-    turned = np.zeros(n, dtype=bool)
-    turn_x = np.full(n, np.inf)
-    if policy == "turn-back":
-        reached_pnr = has_pnr & (x[:, -1] >= x_pnr)
-        e_star, t_star = at_pnr(e), at_pnr(t)
-        per_metre = np.divide(e_star, x_pnr, out=np.zeros(n), where=reached_pnr & (x_pnr > 0))
-        left = np.where(reached_pnr, route - x_pnr, 0.0)
-        forecast = battery.drawable(t_star) - e_star - per_metre * left - arrival_energy
-        at_pnr_turn = reached_pnr & (forecast < 0.0)
-        # stopped by a current under ice while a return was still possible
-        stopped_ice = ~transit.arrived & ice[_leg_at(x[:, -1], bounds)] \
-            & (spare[:, -1] > 0.0) & ~at_pnr_turn
-        turned = at_pnr_turn | stopped_ice
-        turn_x = np.where(at_pnr_turn, x_pnr, np.where(stopped_ice, x[:, -1], np.inf))
-        return_energy = np.where(at_pnr_turn, e_back_pnr, np.where(stopped_ice, e_back[:, -1], 0.0))
-        return_duration = np.where(at_pnr_turn, t_back_pnr,
-                                   np.where(stopped_ice, t_back[:, -1], 0.0))
-        turn_time = np.where(at_pnr_turn, t_star, np.where(stopped_ice, t[:, -1], np.inf))
-    else:
-        return_energy = np.zeros(n)
-        return_duration = np.zeros(n)
-        turn_time = np.full(n, np.inf)
-    success &= ~turned
-    reaches &= ~turned
-
-    # --- where a vehicle that is neither recovered nor returned ends -------------------------
-    usable = per_column.usable(t)
-    empty = (e > usable) & (np.arange(x.shape[1]) > 0)[None, :]
-    first_empty = np.argmax(empty, axis=1)
-    end_x = np.where(~transit.arrived, x[:, -1],
-                     np.where(empty.any(axis=1), x[cols, first_empty], route))
-    lost = ~reaches & ~turned & ice[_leg_at(end_x, bounds)]
-
+    turn = _turn_back(policy, battery, transit, prof, ice, bounds, pnr, arrival_energy,
+                      e_back, t_back)
+    success = transit.success & (margin >= 0.0) & ~turn.turned
+    reaches = transit.arrived & (e_last + arrival_energy <= usable_end) & ~turn.turned
+    lost = ~reaches & ~turn.turned & _ends_under_ice(battery, transit, ice, bounds)
     # --- the timeline -----------------------------------------------------------------------
-    steps = (x.shape[1] - 1) // n_legs
-    boundary_time = t[:, ::steps][:, : n_legs + 1]
-    boundary_time = np.minimum(boundary_time, turn_time[:, None])
-    mission_end = np.where(turned, turn_time + return_duration,
+    steps = (prof.position.shape[1] - 1) // n_legs
+    boundary_time = np.minimum(prof.elapsed[:, ::steps][:, : n_legs + 1], turn.time[:, None])
+    mission_end = np.where(turn.turned, turn.time + turn.return_duration,
                            np.where(transit.arrived, finished, transit.duration))
     return UnderIceOutcome(
-        point_of_no_return=x_pnr,
-        turned_back=turned,
-        turn_position=turn_x,
-        turn_leg=np.where(turned, _leg_at(np.where(turned, turn_x, 0.0), bounds),
-                          -1).astype(np.int16),
-        return_energy=return_energy,
-        return_duration=return_duration,
+        point_of_no_return=pnr.position,
+        turned_back=turn.turned,
+        turn_position=turn.position,
+        turn_leg=np.where(turn.turned, _leg_at(np.where(turn.turned, turn.position, 0.0),
+                                               bounds), -1).astype(np.int16),
+        return_energy=turn.return_energy,
+        return_duration=turn.return_duration,
         arrival_energy=np.array(arrival_energy),
         arrival_duration=np.array(arrival_duration),
         margin=margin,
@@ -353,6 +288,98 @@ def under_ice_outcome(
         mission_end=mission_end,
         boundary_time=boundary_time,
     )
+
+
+def _ends_under_ice(battery, transit, ice, bounds):
+    """Whether a vehicle that is neither recovered nor returned ends on an ice leg: where it
+    stopped, else where its pack first ran empty (reserve spent), else at the goal."""
+    prof = transit.profile
+    x = prof.position
+    empty = (prof.energy > _columns(battery).usable(prof.elapsed)) \
+        & (np.arange(x.shape[1]) > 0)[None, :]
+    end_x = np.where(~transit.arrived, x[:, -1],
+                     np.where(empty.any(axis=1), x[np.arange(x.shape[0]), np.argmax(empty, axis=1)],
+                              bounds[:, -1]))
+    return ice[_leg_at(end_x, bounds)]
+
+
+class _NoReturnPoint(NamedTuple):
+    """The first point of no return of every sample, interpolated between profile columns."""
+
+    position: np.ndarray  # x* [m], inf where there is none
+    column: np.ndarray  # the first profile column past x*
+    fraction: np.ndarray  # of the way from column - 1 to column
+    spare: np.ndarray  # (n, K) energy above the reserve after a return [J]
+    return_energy: np.ndarray  # of a return from x* [J]
+    return_duration: np.ndarray  # [s]
+
+    def at(self, values):
+        """``values`` (n, K) interpolated at x*."""
+        cols = np.arange(values.shape[0])
+        v0, v1 = values[cols, self.column - 1], values[cols, self.column]
+        return np.where(self.fraction > 0.0, v0 + self.fraction * (v1 - v0), v0)
+
+
+def _point_of_no_return(battery, prof, ice, e_back, t_back) -> _NoReturnPoint:
+    """x* where the energy above the reserve first fails to cover the return (ice legs)."""
+    x, t, e = prof.position, prof.elapsed, prof.energy
+    finite = np.isfinite(t_back)
+    spare = np.where(finite, _columns(battery).drawable(t + np.where(finite, t_back, 0.0))
+                     - e - e_back, -np.inf)
+    crossed = ice[prof.leg][None, :] & (spare <= 0.0)
+    crossed[:, 0] = False
+    has_pnr = crossed.any(axis=1)
+    k = np.where(has_pnr, np.argmax(crossed, axis=1), 1)
+    cols = np.arange(x.shape[0])
+    g0, g1 = spare[cols, k - 1], spare[cols, k]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        frac = np.where(g0 > 0.0, g0 / np.where(np.isfinite(g1), g0 - g1, np.inf), 0.0)
+    frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
+    point = _NoReturnPoint(np.inf, k, frac, spare, 0.0, 0.0)
+    # the return cost at x*: zero from an open-water column, linear on the ice leg
+    return point._replace(
+        position=np.where(has_pnr, point.at(x), np.inf),
+        return_energy=np.where(frac > 0.0, point.at(np.where(np.isfinite(e_back), e_back, 0.0)),
+                               e_back[cols, k - 1]),
+        return_duration=np.where(frac > 0.0,
+                                 point.at(np.where(np.isfinite(t_back), t_back, 0.0)),
+                                 t_back[cols, k - 1]))
+
+
+class _TurnBack(NamedTuple):
+    turned: np.ndarray  # bool
+    position: np.ndarray  # [m], inf where it did not turn
+    time: np.ndarray  # [s], inf where it did not turn
+    return_energy: np.ndarray  # [J]
+    return_duration: np.ndarray  # [s]
+
+
+def _turn_back(policy, battery, transit, prof, ice, bounds, pnr: _NoReturnPoint,
+               arrival_energy, e_back, t_back) -> _TurnBack:
+    """Who turns back where: at x* on a forecast shortfall, or where a current stopped it."""
+    n = bounds.shape[0]
+    if policy != "turn-back":
+        return _TurnBack(np.zeros(n, dtype=bool), np.full(n, np.inf), np.full(n, np.inf),
+                         np.zeros(n), np.zeros(n))
+    x, t, e = prof.position, prof.elapsed, prof.energy
+    x_pnr = pnr.position
+    reached_pnr = np.isfinite(x_pnr) & (x[:, -1] >= x_pnr)
+    e_star, t_star = pnr.at(e), pnr.at(t)
+    per_metre = np.divide(e_star, x_pnr, out=np.zeros(n), where=reached_pnr & (x_pnr > 0))
+    left = np.where(reached_pnr, bounds[:, -1] - x_pnr, 0.0)
+    forecast = battery.drawable(t_star) - e_star - per_metre * left - arrival_energy
+    at_pnr = reached_pnr & (forecast < 0.0)
+    # stopped by a current under ice while a return was still possible
+    stopped_ice = ~transit.arrived & ice[_leg_at(x[:, -1], bounds)] \
+        & (pnr.spare[:, -1] > 0.0) & ~at_pnr
+    return _TurnBack(
+        turned=at_pnr | stopped_ice,
+        position=np.where(at_pnr, x_pnr, np.where(stopped_ice, x[:, -1], np.inf)),
+        time=np.where(at_pnr, t_star, np.where(stopped_ice, t[:, -1], np.inf)),
+        return_energy=np.where(at_pnr, pnr.return_energy,
+                               np.where(stopped_ice, e_back[:, -1], 0.0)),
+        return_duration=np.where(at_pnr, pnr.return_duration,
+                                 np.where(stopped_ice, t_back[:, -1], 0.0)))
 
 
 def _columns(battery):

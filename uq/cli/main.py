@@ -113,13 +113,12 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("--sensitivity-base", type=_nonnegative_int, metavar="N",
                      dest="sensitivity_base",
                      help="Saltelli base N, a power of two; 0 skips the sensitivity stage")
-    run.add_argument("--workers", type=_positive_int, metavar="W", default=1,
-                     help="worker processes for the propagation (default 1); results do not "
-                          "depend on it")
     run.add_argument("--out", metavar="DIR",
                      help="report folder (default reports/<scenario name>/)")
     run.add_argument("--overwrite", action="store_true",
                      help="replace an existing report folder")
+
+    where = _where_to_run()
 
     parser = _Parser(
         prog=PROG,
@@ -129,7 +128,7 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True,
                                 parser_class=_Parser)
 
-    p = sub.add_parser("assess", parents=[output, run],
+    p = sub.add_parser("assess", parents=[output, run, where],
                        help="full assessment and report of a scenario",
                        description="Run the full assessment of SCENARIO (default: the bundled "
                                    "under-ice demo) and write the report folder.")
@@ -152,7 +151,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("scenario", metavar="SCENARIO", help="scenario file (TOML)")
     p.set_defaults(func=_cmd_check)
 
-    p = sub.add_parser("sweep", parents=[output, run],
+    p = sub.add_parser("sweep", parents=[output, run, where],
                        help="P(success) over values of a setpoint",
                        description="Assess SCENARIO and sweep one setpoint over VALUES on "
                                    "shared samples; the report gets a sweep section.")
@@ -164,7 +163,7 @@ def build_parser() -> argparse.ArgumentParser:
                         "setpoint.glide_angle_deg (glider default) or setpoint.net_buoyancy_N")
     p.set_defaults(func=_cmd_sweep)
 
-    p = sub.add_parser("compare", parents=[output, run],
+    p = sub.add_parser("compare", parents=[output, run, where],
                        help="paired comparison of two configurations",
                        description="Assess SCENARIO_A and compare it with SCENARIO_B on shared "
                                    "samples; the report of A gets a comparison section.")
@@ -182,7 +181,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--overwrite", action="store_true", help="replace an existing file")
     p.set_defaults(func=_cmd_starter)
 
-    p = sub.add_parser("study", parents=[output],
+    p = sub.add_parser("study", parents=[output, where],
                        help="batch study of many scenario variants on shared samples",
                        description="Run every variant of the study file's base scenario on "
                                    "shared samples and write the study folder.")
@@ -194,18 +193,37 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--out", metavar="DIR", help="study folder (default reports/<study name>/)")
     p.add_argument("--overwrite", action="store_true",
                    help="replace an existing study folder written by transit-risk")
-    where = p.add_mutually_exclusive_group()
-    where.add_argument("--workers", type=_positive_int, metavar="W", default=1,
-                       help="local worker processes (default 1); results do not depend on it")
-    where.add_argument("--scheduler", metavar="ADDRESS",
-                       help="run on a running Dask scheduler (needs the dask extra)")
-    where.add_argument("--local-cluster", type=_positive_int, metavar="N", dest="local_cluster",
-                       help="start a loopback Dask cluster of N worker processes")
     p.set_defaults(func=_cmd_study)
     return parser
 
 
+def _where_to_run() -> argparse.ArgumentParser:
+    """The options that say where the model runs, shared by every command that samples."""
+    where = _Parser(add_help=False)
+    group = where.add_mutually_exclusive_group()
+    group.add_argument("--workers", type=_positive_int, metavar="W", default=1,
+                       help="local worker processes (default 1); this and the three below "
+                            "exclude each other, and the numbers do not depend on them")
+    group.add_argument("--scheduler", metavar="ADDRESS",
+                       help="a running Dask scheduler, e.g. tcp://10.0.0.5:8786 (needs the "
+                            "dask extra; workers need the same transit-risk version)")
+    group.add_argument("--scheduler-file", metavar="PATH", dest="scheduler_file",
+                       help="the scheduler file a Dask scheduler wrote (HPC batch jobs)")
+    group.add_argument("--local-cluster", type=_positive_int, metavar="N", dest="local_cluster",
+                       help="start a loopback Dask cluster of N worker processes")
+    return where
+
+
 # =============================================================================== helpers
+def _executor(args):
+    """The executor the options ask for (a context manager; None: this process)."""
+    from uq.sampling import backends
+
+    return backends.executor_for(workers=args.workers, scheduler=args.scheduler,
+                                 scheduler_file=args.scheduler_file,
+                                 local_cluster=args.local_cluster)
+
+
 def _load(path: str | os.PathLike):
     """Read a scenario; its cautions (implausible values, defaults) go to stderr once."""
     from uq.scenario import load_scenario
@@ -225,11 +243,11 @@ def _out_dir(args, name: str, console: Console, suffix: str = "") -> Path:
     return out
 
 
-def _assess(args, scenario, console: Console):
+def _assess(args, scenario, console: Console, executor):
     from uq.studies.assess import assess
 
     return assess(scenario, samples=args.samples, seed=args.seed,
-                  sensitivity_base_n=args.sensitivity_base, workers=args.workers,
+                  sensitivity_base_n=args.sensitivity_base, executor=executor,
                   progress=console.stage)
 
 
@@ -260,7 +278,8 @@ def _cmd_assess(args, console: Console) -> int:
     else:
         scenario = _load(args.scenario)
     out = _out_dir(args, scenario.name, console)
-    assessment = _assess(args, scenario, console)
+    with _executor(args) as executor:
+        assessment = _assess(args, scenario, console, executor)
     mode = getattr(args, "go_requirements", "never")
     if mode == "always" or (mode == "unless-go" and assessment.verdict.verdict != "go"):
         from uq.studies.requirements import with_go_requirements
@@ -328,10 +347,11 @@ def _cmd_sweep(args, console: Console) -> int:
     out = _out_dir(args, scenario.name, console, suffix)
     # validate the field before the long stages
     studies.with_setpoint(scenario, field, args.values[0])
-    assessment = _assess(args, scenario, console)
-    console.message(f"sweeping {field} over {len(args.values)} values...")
-    sweep = studies.sweep_setpoint(scenario, field, args.values, samples=args.samples,
-                                   seed=args.seed)
+    with _executor(args) as executor:
+        assessment = _assess(args, scenario, console, executor)
+        console.message(f"sweeping {field} over {len(args.values)} values...")
+        sweep = studies.sweep_setpoint(scenario, field, args.values, samples=args.samples,
+                                       seed=args.seed, executor=executor)
     folder = _report(args, assessment, out, console, sweep=sweep)
     console.result(sweep.summary.sentence)
     _finish(console, assessment, folder)
@@ -344,9 +364,11 @@ def _cmd_compare(args, console: Console) -> int:
     a = _load(args.scenario)
     b = _load(args.other)
     out = _out_dir(args, a.name, console, f"-vs-{b.name}")
-    assessment = _assess(args, a, console)
-    console.message(f"comparing {a.name} with {b.name} on shared samples...")
-    comparison = studies.compare_scenarios(a, b, samples=args.samples, seed=args.seed)
+    with _executor(args) as executor:
+        assessment = _assess(args, a, console, executor)
+        console.message(f"comparing {a.name} with {b.name} on shared samples...")
+        comparison = studies.compare_scenarios(a, b, samples=args.samples, seed=args.seed,
+                                               executor=executor)
     folder = _report(args, assessment, out, console, comparison=comparison)
     console.result(comparison.comparison.sentence)
     _finish(console, assessment, folder)
@@ -395,18 +417,13 @@ def _cmd_starter(args, console: Console) -> int:
 
 def _cmd_study(args, console: Console) -> int:
     from uq.report import write_study
-    from uq.sampling import backends
     from uq.scenario.study_file import load_study
     from uq.studies.batch import run_study
 
     study = load_study(args.studyfile)
     out = _out_dir(args, study.name, console)
-    if args.scheduler is not None or args.local_cluster is not None:
-        context = backends.dask_executor(args.scheduler, local_workers=args.local_cluster)
-    else:
-        context = backends.local_executor(args.workers)
     total = args.samples if args.samples is not None else study.samples
-    with context as executor:
+    with _executor(args) as executor:
         result = run_study(study, samples=args.samples, seed=args.seed, executor=executor,
                            progress=lambda rows: console.stage("study", rows, total))
     console.close_bar()

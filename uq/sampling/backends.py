@@ -14,9 +14,11 @@ numbers bit for bit.
   is lost mid-run, the scheduler re-runs its tasks elsewhere; because a task's result depends
   only on the task (the plan's rows are regenerated from the design record), the result is
   unchanged.
-* :func:`dask_executor` — context manager that connects to a running scheduler, or starts a
-  loopback-only ``distributed.LocalCluster`` of single-threaded worker processes, and closes
-  what it opened.
+* :func:`dask_executor` — context manager that connects to a running scheduler (by address
+  or by its scheduler file), or starts a loopback-only ``distributed.LocalCluster`` of
+  single-threaded worker processes, and closes what it opened.
+* :func:`executor_for` — the one place the command line's choice of where to run becomes
+  one of the above.
 
 Dask is an optional dependency, imported only when a Dask backend is asked for.
 """
@@ -39,6 +41,7 @@ __all__ = [
     "local_executor",
     "DaskExecutor",
     "dask_executor",
+    "executor_for",
 ]
 
 #: Message of :class:`DaskUnavailableError`.
@@ -166,20 +169,22 @@ class DaskExecutor:
 
 
 @contextmanager
-def dask_executor(scheduler: str | None = None, *, local_workers: int | None = None,
-                  retries: int = 0) -> Iterator[DaskExecutor]:
+def dask_executor(scheduler: str | None = None, *, scheduler_file: str | os.PathLike | None = None,
+                  local_workers: int | None = None, retries: int = 0) -> Iterator[DaskExecutor]:
     """A :class:`DaskExecutor` on a running cluster or on a loopback ``LocalCluster``.
 
     Parameters
     ----------
     scheduler : str, optional
-        Address of a running scheduler, e.g. ``"tcp://10.0.0.5:8786"``. When given,
-        ``local_workers`` must be None.
+        Address of a running scheduler, e.g. ``"tcp://10.0.0.5:8786"``.
+    scheduler_file : path, optional
+        The JSON file a scheduler writes with ``--scheduler-file`` (how HPC batch jobs tell
+        their workers and clients where the scheduler runs).
     local_workers : int, optional
-        Without ``scheduler``: number of worker processes of the local cluster [-]
+        Without a scheduler: number of worker processes of the local cluster [-]
         (default: the number of CPUs). Each worker has one thread; the cluster listens on
         127.0.0.1 only and has no dashboard.
-    retries : int, default 3
+    retries : int, default 0
         See :class:`DaskExecutor`.
 
     Yields
@@ -192,8 +197,9 @@ def dask_executor(scheduler: str | None = None, *, local_workers: int | None = N
     DaskUnavailableError
         ``distributed`` is not installed.
     BackendError
-        Both ``scheduler`` and ``local_workers`` given, an empty address, or a worker
-        count that is not an integer >= 1.
+        More than one of ``scheduler``, ``scheduler_file`` and ``local_workers``; an empty
+        address; a scheduler file that is not a readable file; a worker count that is not an
+        integer >= 1.
 
     Notes
     -----
@@ -201,21 +207,30 @@ def dask_executor(scheduler: str | None = None, *, local_workers: int | None = N
     cluster lowers the chatter of its own loggers while it runs and restores their levels on
     close; no logging is configured by this module.
     """
-    if scheduler is not None:
-        if local_workers is not None:
-            raise BackendError(
-                f"give either a scheduler address or a local worker count, not both; got "
-                f"scheduler={scheduler!r}, local_workers={local_workers!r}")
-        if not isinstance(scheduler, str) or not scheduler.strip():
-            raise BackendError(f"scheduler must be an address such as 'tcp://host:8786'; "
-                               f"got {scheduler!r}")
-    else:
-        if local_workers is None:
-            local_workers = os.cpu_count() or 1
+    given = {name: value for name, value in (("scheduler", scheduler),
+                                             ("scheduler_file", scheduler_file),
+                                             ("local_workers", local_workers))
+             if value is not None}
+    if len(given) > 1:
+        raise BackendError("give one of a scheduler address, a scheduler file or a local "
+                           "worker count, not both; got "
+                           + ", ".join(f"{k}={v!r}" for k, v in given.items()))
+    if scheduler is not None and (not isinstance(scheduler, str) or not scheduler.strip()):
+        raise BackendError(f"scheduler must be an address such as 'tcp://host:8786'; "
+                           f"got {scheduler!r}")
+    if scheduler_file is not None and not os.path.isfile(scheduler_file):
+        raise BackendError(f"scheduler file {str(scheduler_file)!r} does not exist or is not a "
+                           "file; expected the JSON file written by 'dask scheduler "
+                           "--scheduler-file PATH'")
+    if not given:
+        local_workers = os.cpu_count() or 1
+    if scheduler is None and scheduler_file is None:
         local_workers = _check_count(local_workers, "local_workers")
     distributed = _import_distributed()
-    if scheduler is not None:
-        with distributed.Client(scheduler, set_as_default=False) as client:
+    if scheduler is not None or scheduler_file is not None:
+        target = dict(address=scheduler) if scheduler is not None else \
+            dict(scheduler_file=os.fspath(scheduler_file))
+        with distributed.Client(**target, set_as_default=False) as client:
             yield DaskExecutor(client, retries=retries)
         return
     with distributed.LocalCluster(
@@ -223,3 +238,22 @@ def dask_executor(scheduler: str | None = None, *, local_workers: int | None = N
         dashboard_address=None, silence_logs=logging.WARNING,
     ) as cluster, distributed.Client(cluster, set_as_default=False) as client:
         yield DaskExecutor(client, retries=retries)
+
+
+@contextmanager
+def executor_for(*, workers: int = 1, scheduler: str | None = None,
+                 scheduler_file: str | os.PathLike | None = None,
+                 local_cluster: int | None = None) -> Iterator[Any]:
+    """The one place a tool turns "where to run" into an executor for the engine.
+
+    A Dask executor when ``scheduler``, ``scheduler_file`` or ``local_cluster`` is given
+    (:func:`dask_executor`), else :func:`local_executor` of ``workers`` processes (None: this
+    process). The numbers never depend on the choice.
+    """
+    if scheduler is None and scheduler_file is None and local_cluster is None:
+        with local_executor(workers) as executor:
+            yield executor
+        return
+    with dask_executor(scheduler, scheduler_file=scheduler_file,
+                       local_workers=local_cluster) as executor:
+        yield executor

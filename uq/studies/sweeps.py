@@ -19,9 +19,9 @@ from scipy import stats
 
 from uq import decisions
 from uq.sampling.inputs import InputModel, ScipyMarginal
-from uq.sampling.plans import SampleDesign, plan_size
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, plan_size
 from uq.scenario import Scenario
-from uq.simulate import ScenarioModel, deterministic_optimum, nominal
+from uq.simulate import Outcomes, ScenarioModel, deterministic_optimum, nominal
 
 __all__ = [
     "SWEEPABLE",
@@ -106,12 +106,14 @@ def shared_copula(scenarios: Sequence[Scenario], union: Sequence[str]) -> InputM
 
 
 def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, seed: int,
-                               scheme: str = "sobol") -> list[dict[str, np.ndarray]]:
+                               scheme: str = "sobol", executor=None) -> list[Outcomes]:
     """Outcomes of every scenario on one shared plan (common random numbers by input name).
 
     The plan's unit points are correlated once over the union of inputs; each configuration
     then maps the columns of its own inputs through its own marginals, so a shared input has
     the same probability level in every configuration (the same value when the marginals agree).
+    The model runs in blocks of rows, through ``executor.map`` when one is given (a process
+    pool, :class:`uq.sampling.backends.DaskExecutor`); the numbers do not depend on it.
     """
     union: list[str] = []
     for s in scenarios:
@@ -120,8 +122,24 @@ def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, s
     copula = shared_copula(scenarios, union)
     if copula is not None:
         u = copula.transform(u)  # correlated uniforms
-    return [ScenarioModel(s)(inputs_from_shared(s, columns_for(s, union), u))
-            for s in scenarios]
+    tasks = []
+    for s in scenarios:
+        model, x = ScenarioModel(s), inputs_from_shared(s, columns_for(s, union), u)
+        tasks.append([(model, x[i:i + DEFAULT_BLOCK_SIZE])
+                      for i in range(0, x.shape[0], DEFAULT_BLOCK_SIZE)])
+    run = map if executor is None else executor.map
+    results = list(run(_evaluate_block, [task for per in tasks for task in per]))
+    out, start = [], 0
+    for per in tasks:
+        out.append(Outcomes.concatenate(results[start:start + len(per)]))
+        start += len(per)
+    return out
+
+
+def _evaluate_block(task):
+    """Outcomes of one block of rows: (model, rows) -> model(rows)."""
+    model, rows = task
+    return model(rows)
 
 
 def inputs_from_shared(scenario: Scenario, columns: Sequence[int],
@@ -151,8 +169,9 @@ class SweepResult:
 
 def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
                    samples: int | None = None, seed: int | None = None,
-                   scheme: str = "sobol") -> SweepResult:
-    """P(success), P90 duration and mean margin over setpoint values, on shared samples."""
+                   scheme: str = "sobol", executor=None) -> SweepResult:
+    """P(success), P90 duration and mean margin over setpoint values, on shared samples
+    (``executor``: see :func:`evaluate_on_shared_samples`)."""
     values = tuple(float(v) for v in values)
     if not values:
         raise StudyError("a sweep needs at least one setpoint value")
@@ -160,7 +179,8 @@ def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
     samples = plan_size(samples, scheme=scheme)[1]
     seed = int(scenario.analysis.seed if seed is None else seed)
     variants = [with_setpoint(scenario, field, v) for v in values]
-    outs = evaluate_on_shared_samples(variants, samples=samples, seed=seed, scheme=scheme)
+    outs = evaluate_on_shared_samples(variants, samples=samples, seed=seed, scheme=scheme,
+                                      executor=executor)
     name, unit = SWEEPABLE[scenario.vehicle.kind][field]
     summary = decisions.sweep_summary(
         values,
@@ -192,12 +212,15 @@ class ComparisonResult:
 
 
 def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
-                      seed: int | None = None, scheme: str = "sobol") -> ComparisonResult:
-    """Paired comparison of two configurations on shared samples of their common inputs."""
+                      seed: int | None = None, scheme: str = "sobol",
+                      executor=None) -> ComparisonResult:
+    """Paired comparison of two configurations on shared samples of their common inputs
+    (``executor``: see :func:`evaluate_on_shared_samples`)."""
     samples = int(samples or a.analysis.samples)
     samples = plan_size(samples, scheme=scheme)[1]
     seed = int(a.analysis.seed if seed is None else seed)
-    out_a, out_b = evaluate_on_shared_samples([a, b], samples=samples, seed=seed, scheme=scheme)
+    out_a, out_b = evaluate_on_shared_samples([a, b], samples=samples, seed=seed, scheme=scheme,
+                                              executor=executor)
     names = (a.name, b.name) if a.name != b.name else (f"{a.name} (A)", f"{b.name} (B)")
     comparison = decisions.paired_comparison(
         out_a["success"], out_b["success"],

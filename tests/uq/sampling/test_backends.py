@@ -88,3 +88,55 @@ def test_an_assessment_on_dask_equals_the_local_one():
     assert on_dask.propagation.mean_margin_Wh == local.propagation.mean_margin_Wh
     np.testing.assert_array_equal(on_dask.propagation.outcomes.margin_Wh,
                                   local.propagation.outcomes.margin_Wh)
+
+
+def test_one_place_chooses_the_executor_and_refuses_two_choices(tmp_path):
+    with backends.executor_for(workers=1) as ex:
+        assert ex is None
+    with pytest.raises(backends.BackendError, match="not both"):
+        with backends.executor_for(scheduler="tcp://127.0.0.1:1", local_cluster=2):
+            pass
+    with pytest.raises(backends.BackendError, match="scheduler file .* does not exist"):
+        with backends.executor_for(scheduler_file=tmp_path / "missing.json"):
+            pass
+
+
+@pytest.mark.slow  # starts a two-process cluster twice: ~10 s on two cores
+def test_assess_and_sweep_on_a_two_worker_cluster_equal_the_local_run(tmp_path):
+    distributed = pytest.importorskip("distributed", reason="the [dask] extra is not installed")
+    import json
+    from pathlib import Path
+
+    from uq.scenario import load_scenario
+    from uq.studies.assess import assess
+    from uq.studies.sweeps import sweep_setpoint
+
+    configs = Path(__file__).resolve().parents[3] / "configs"
+    scenario = load_scenario(configs / "under_ice_section.toml")
+    kw = dict(samples=1024, replicates=2, sensitivity_base_n=64, block_size=256)
+    local = assess(scenario, **kw)
+    local_sweep = sweep_setpoint(scenario, "setpoint.speed_m_s", [1.2, 1.5], samples=256, seed=3)
+    with backends.executor_for(local_cluster=2) as ex:
+        on_dask = assess(scenario, **kw, executor=ex)
+        dask_sweep = sweep_setpoint(scenario, "setpoint.speed_m_s", [1.2, 1.5], samples=256,
+                                    seed=3, executor=ex)
+        # an HPC job finds its scheduler through the file the scheduler wrote
+        path = tmp_path / "scheduler.json"
+        path.write_text(json.dumps({"address": ex.client.scheduler.address}))
+        with backends.executor_for(scheduler_file=path) as by_file:
+            by_file_sweep = sweep_setpoint(scenario, "setpoint.speed_m_s", [1.2, 1.5],
+                                           samples=256, seed=3, executor=by_file)
+    assert isinstance(ex, backends.DaskExecutor) and len(distributed.__version__) > 0
+    assert on_dask.p_success == local.p_success
+    assert on_dask.propagation.mean_margin_Wh == local.propagation.mean_margin_Wh
+    np.testing.assert_array_equal(on_dask.propagation.outcomes.margin_Wh,
+                                  local.propagation.outcomes.margin_Wh)
+    assert on_dask.sensitivity is not None
+    for output in local.sensitivity.sobol.keys():  # the sensitivity stage ran on the cluster
+        np.testing.assert_array_equal(on_dask.sensitivity.sobol[output].total,
+                                      local.sensitivity.sobol[output].total)
+        np.testing.assert_array_equal(on_dask.sensitivity.sobol[output].first,
+                                      local.sensitivity.sobol[output].first)
+    for other in (dask_sweep, by_file_sweep):
+        np.testing.assert_array_equal(other.to_frame().to_numpy(),
+                                      local_sweep.to_frame().to_numpy())
