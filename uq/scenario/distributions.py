@@ -64,6 +64,11 @@ _LOGNORMAL_PAIRS = (("median", "log_sd"), ("mean", "cv"))
 #: Truncation bounds farther than this many sd beyond the mean leave (almost) no mass.
 _TRUNCATION_REACH_SD = 6.0
 
+#: Largest beta shape (alpha, beta) and PERT shape accepted. Beta(1e6, 1e6) already has an sd
+#: of 3.5e-4 of its range, in effect a fixed value; far beyond it (near 1e20) the inverse
+#: incomplete beta function of scipy before 1.17 never returns (measured on 1.13-1.16).
+_MAX_SHAPE = 1e6
+
 # Key suffix -> unit; longest suffixes first so "_m_s" wins over "_s" and "_m".
 _UNIT_SUFFIXES = (
     ("_per_day", "1/day"),
@@ -470,6 +475,9 @@ def _check_params(kind: str, params: Mapping[str, Any]) -> dict[str, float]:
             for key in ("alpha", "beta"):
                 if p[key] <= 0:
                     raise DistributionError(key, p[key], f"{key} > 0")
+                if p[key] > _MAX_SHAPE:
+                    raise DistributionError(key, p[key], f"{key} <= {_MAX_SHAPE:g} (a narrower "
+                                            "beta is a fixed value: write a plain number)")
         if p["low"] == p["high"]:
             raise DistributionError("high", p["high"], "high > low; for a fixed value write a plain number instead of a distribution")
         if p["low"] > p["high"]:
@@ -481,8 +489,9 @@ def _check_params(kind: str, params: Mapping[str, Any]) -> dict[str, float]:
             raise DistributionError("max", p["max"], f"max > min = {p['min']!r}")
         if not p["min"] <= p["mode"] <= p["max"]:
             raise DistributionError("mode", p["mode"], f"min <= mode <= max, i.e. in [{p['min']!r}, {p['max']!r}]")
-        if kind == "pert" and p["shape"] <= 0:
-            raise DistributionError("shape", p["shape"], "shape > 0 (4 is the classic PERT)")
+        if kind == "pert" and not 0 < p["shape"] <= _MAX_SHAPE:
+            raise DistributionError("shape", p["shape"],
+                                    f"0 < shape <= {_MAX_SHAPE:g} (4 is the classic PERT)")
     return out
 
 

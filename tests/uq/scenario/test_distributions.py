@@ -169,6 +169,21 @@ def test_parse_distribution_error_names_the_parameter():
         parse_distribution({"dist": "normal", "mean": 1.0, "sd": -1.0}, name="a.b", file="f.toml")
 
 
+@pytest.mark.parametrize("table, key", [
+    ({"dist": "beta", "alpha": 1e20, "beta": 2.0}, "alpha"),
+    ({"dist": "beta", "alpha": 2.0, "beta": 1e7}, "beta"),
+    ({"dist": "pert", "min": 0.0, "mode": 0.5, "max": 1.0, "shape": 1e20}, "shape"),
+])
+def test_beta_and_pert_shapes_past_a_million_are_refused(table, key):
+    # Beta(1e20, 1e20) made scipy 1.13-1.16's inverse incomplete beta loop for ever (found by
+    # the lowest-versions run); at shape 1e6 the sd is already 3.5e-4 of the range (derived:
+    # sd = sqrt(ab / ((a+b)^2 (a+b+1))) = 0.5 / sqrt(2e6 + 1)), so a fixed value is meant.
+    with pytest.raises(ScenarioError, match=rf"^f\.toml: a\.b\.{key} = .*<= 1e\+06"):
+        parse_distribution(table, name="a.b", file="f.toml")
+    ok = {**table, key: 1e6}
+    assert parse_distribution(ok, name="a.b", file="f.toml").ppf([0.5]).shape == (1,)
+
+
 
 def test_triangular_mean_and_variance_closed_forms():
     # closed forms (Johnson, Kotz & Balakrishnan vol. 2, triangular distribution):
