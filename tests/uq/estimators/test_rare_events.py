@@ -52,4 +52,5 @@ def test_subset_simulation_interval_coverage_over_100_seeds():
     for seed in range(100):
         p = subset_simulation(_shortfall(1e-4), 4, rng=100 + seed).probability
         hits += p.lower <= 1e-4 <= p.upper
+    print(f"subset simulation at P = 1e-4: {hits} of 100 intervals cover the closed form")
     assert hits >= 88, hits
