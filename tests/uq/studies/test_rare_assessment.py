@@ -1,10 +1,12 @@
 """The assessment's rare-event stage against the closed form of a lognormal energy shortfall.
 
-One still-water leg with fixed drag, hotel load and efficiency: the energy drawn W is fixed
-and the battery's nominal energy E, lognormal with median M and log-sd s, is the only
-uncertain input, so the transit range is proportional to E. derived: success iff
-0.8 E >= W (20 % reserve), reaching the recovery point iff E >= W, so
-P(fail) = Phi((ln(W / 0.8) - ln M) / s) and P(reserve breach) = P(fail) - Phi((ln W - ln M) / s).
+One still-water leg at a fixed speed with no hotel load: the energy drawn is
+W = C_D A W_1 with W_1 = (1/2 rho U^2 / eta) L, and the drag coefficient C_D, the reference
+area A and the battery's nominal energy E are independent lognormals (log-sd s each), so the
+transit range E / (C_D A W_1 / L) is proportional to the usable energy. derived: with
+X = ln E - ln C_D - ln A ~ N(mu, 3 s^2), success iff 0.8 E >= W (20 % reserve) and reaching
+the recovery point iff E >= W, so P(fail) = Phi((ln(W_1 / 0.8) - mu) / (s sqrt 3)) and
+P(reserve breach) = P(fail) - Phi((ln W_1 - mu) / (s sqrt 3)).
 """
 import numpy as np
 import pytest
@@ -15,43 +17,46 @@ from uq.report.summary import build_summary
 from uq.scenario import parse_scenario
 from uq.studies.assess import assess
 
-LOG_SD = 0.08
+LOG_SD = 0.05
+SIGMA = LOG_SD * np.sqrt(3.0)  # of X = ln E - ln C_D - ln A
 LENGTH_KM = 200.0
+C_D, AREA = 0.1, 0.3  # medians
 
 
-def _drawn_Wh():
-    """W = (1/2 rho U^3 C_D A / eta + P_h) L / U for U = 1 m/s, C_D A = 0.1 x 0.3 m2,
-    eta = 0.4, P_h = 40 W (the closed form, written out; rho from TEOS-10 through gsw)."""
+def _unit_drawn_Wh():
+    """W_1 = (1/2 rho U^2 / eta) L [Wh per unit C_D A] for U = 1 m/s, eta = 0.4 (the closed
+    form, written out; rho from TEOS-10 through gsw)."""
     sa = gsw.SR_from_SP(35.0)
     rho = float(gsw.rho(sa, gsw.CT_from_t(sa, 10.0, 0.0), 0.0))
-    return (0.5 * rho * 1.0 ** 2 * 0.1 * 0.3 / 0.4 + 40.0 / 1.0) * LENGTH_KM * 1e3 / 3600.0
+    return 0.5 * rho * 1.0 ** 2 / 0.4 * LENGTH_KM * 1e3 / 3600.0
 
 
 def _shortfall_scenario(p_fail, *, required=0.999, rare_events=None):
-    """The median energy M placed so that P(fail) = p_fail exactly (derived, see above)."""
-    median = _drawn_Wh() / 0.8 * np.exp(-LOG_SD * stats.norm.ppf(p_fail))
+    """The median energy placed so that P(fail) = p_fail exactly (derived, see above); returns
+    the scenario and mu, the mean of X."""
+    mu = np.log(_unit_drawn_Wh() / 0.8) - SIGMA * stats.norm.ppf(p_fail)
+    median = float(np.exp(mu) * C_D * AREA)
     analysis = {"samples": 1024, "seed": 5, "scheme": "sobol", "replicates": 8,
                 "sensitivity_base_n": 64}
     if rare_events is not None:
         analysis["rare_events"] = rare_events
+    lognormal = (lambda m: {"dist": "lognormal", "median": m, "log_sd": LOG_SD})
     return parse_scenario({
         "scenario": {"name": "lognormal-shortfall", "description": "closed-form P(fail)"},
-        "vehicle": {"kind": "propeller", "name": "test hull", "hotel_load_W": 40.0,
+        "vehicle": {"kind": "propeller", "name": "test hull", "hotel_load_W": 0.0,
                     "propulsive_efficiency": 0.4,
-                    "drag": {"coefficient": 0.1, "reference_area_m2": 0.3,
+                    "drag": {"coefficient": lognormal(C_D), "reference_area_m2": lognormal(AREA),
                              "reference": "frontal"}},
-        "battery": {"nominal_energy_Wh": {"dist": "lognormal", "median": median,
-                                          "log_sd": LOG_SD},
-                    "reserve_fraction": 0.2},
+        "battery": {"nominal_energy_Wh": lognormal(median), "reserve_fraction": 0.2},
         "setpoint": {"speed_m_s": 1.0, "depth_m": 0.0},
         "legs": [{"name": "only", "length_km": LENGTH_KM, "temperature_C": 10.0,
                   "practical_salinity": 35.0}],
         "decision": {"required_probability": required, "confidence": 0.95},
         "analysis": analysis,
-    }), median
+    }), mu
 
 
-def _check_against_closed_form(a, p_fail, median, *, precise=True):
+def _check_against_closed_form(a, p_fail, mu, *, precise=True):
     stage = a.rare_events
     assert stage is not None
     fail = stage.failure.probability
@@ -61,8 +66,9 @@ def _check_against_closed_form(a, p_fail, median, *, precise=True):
     assert stage.failure.model_runs <= 200_000
     if precise:
         assert stage.failure.relative_half_width <= 0.30
-    breach = stats.norm.cdf(np.log(_drawn_Wh() / 0.8 / median) / LOG_SD) - stats.norm.cdf(
-        np.log(_drawn_Wh() / median) / LOG_SD)
+    w1 = _unit_drawn_Wh()
+    breach = (stats.norm.cdf((np.log(w1 / 0.8) - mu) / SIGMA)
+              - stats.norm.cdf((np.log(w1) - mu) / SIGMA))
     got = stage.classes["reserve_breach"]
     assert got.lower <= breach <= got.upper
     # P(success) and its interval are 1 - P(fail), and the verdict is judged on them
@@ -76,9 +82,9 @@ def test_a_demanding_requirement_brings_in_subset_simulation_at_1e_4(monkeypatch
     from uq.studies import rare
 
     monkeypatch.setattr(rare, "SAMPLES_PER_LEVEL", 1000)
-    scenario, median = _shortfall_scenario(1e-4)
+    scenario, mu = _shortfall_scenario(1e-4)
     a = assess(scenario, sensitivity_base_n=0)
-    _check_against_closed_form(a, 1e-4, median, precise=False)
+    _check_against_closed_form(a, 1e-4, mu, precise=False)
     # the true P(success) 0.9999 meets 0.999 and the rare-event interval shows it
     assert a.verdict.verdict == "go"
     named = a.estimators()
@@ -113,9 +119,9 @@ def test_rare_events_mode_is_read_and_checked_in_the_scenario():
 @pytest.mark.slow
 @pytest.mark.parametrize("p_fail", [1e-4, 1e-6])
 def test_subset_simulation_in_the_assessment_with_workers(p_fail):
-    scenario, median = _shortfall_scenario(p_fail)
+    scenario, mu = _shortfall_scenario(p_fail)
     a = assess(scenario, sensitivity_base_n=0)
-    _check_against_closed_form(a, p_fail, median)
+    _check_against_closed_form(a, p_fail, mu)
     print(f"P(fail) {p_fail:g}: {a.rare_events.failure.probability.estimate:.3e} "
           f"[{a.rare_events.failure.probability.lower:.3e}, "
           f"{a.rare_events.failure.probability.upper:.3e}], relative half width "
