@@ -142,6 +142,10 @@ def build_parser() -> argparse.ArgumentParser:
                              "samples, about a minute for the demos")
     levers.add_argument("--no-go-requirements", dest="go_requirements", action="store_const",
                         const="never", help="skip the search for what would make it GO (default)")
+    p.add_argument("--extends", metavar="SUMMARY",
+                   help="take the next look of the recorded run whose summary.json is given, "
+                        "with more --samples, under the looks it declared ([analysis] "
+                        "max_looks)")
     p.set_defaults(func=_cmd_assess)
 
     p = sub.add_parser("check", parents=[output],
@@ -246,9 +250,14 @@ def _out_dir(args, name: str, console: Console, suffix: str = "") -> Path:
 def _assess(args, scenario, console: Console, executor):
     from uq.studies.assess import assess
 
+    extends = getattr(args, "extends", None)
+    if extends is not None:
+        from uq.studies.extension import load_recorded_run
+
+        extends = load_recorded_run(extends)
     return assess(scenario, samples=args.samples, seed=args.seed,
                   sensitivity_base_n=args.sensitivity_base, executor=executor,
-                  progress=console.stage)
+                  extends=extends, progress=console.stage)
 
 
 def _report(args, assessment, out: Path, console: Console, **extra) -> Path:
@@ -264,6 +273,10 @@ def _finish(console: Console, assessment, folder: Path) -> None:
     table = getattr(assessment.propagation, "outcome_table", None)
     if table is not None:
         console.result(table.sentence())
+    order = assessment.sensitivity_order()
+    if order is not None and not order.order_resolved and order.suggested_base_n:
+        console.result(f"{order.sentence} To resolve it: --sensitivity-base "
+                       f"{order.suggested_base_n}.")
     console.result(f"Report: {folder / 'index.html'}")
     band = getattr(assessment, "knowledge_band", None)
     # the last line: the verdict, then how sure it is over what we don't yet know

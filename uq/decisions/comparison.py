@@ -143,67 +143,13 @@ def sweep_summary(
     if s.ndim != 2 or s.shape[0] != sp.size or s.shape[1] == 0 or len(set(shapes.values())) != 1:
         raise ShapeMismatchError(f"expected all of shape (m={sp.size} setpoints, n samples); got {shapes}")
     s, a = s.astype(bool), a.astype(bool)
-    n = s.shape[1]
-    rows = []
-    for i in range(sp.size):  # loop over setpoints, not samples
-        k = int(np.count_nonzero(s[i]))
-        lo, hi = _wilson(k, n, confidence)
-        t = np.sort(d[i][a[i]])
-        if t.size:
-            if not np.all(np.isfinite(t)):
-                raise DecisionInputError(f"duration_days at setpoint {sp[i]}: arrived samples must be finite")
-            dq_est, dq_lo, dq_hi = _quantile_with_interval(t, dq, confidence)
-        else:
-            dq_est = dq_lo = dq_hi = None
-        mm, mm_lo, mm_hi = _mean_t_interval(mg[i], confidence)
-        rows.append(
-            SweepRow(
-                setpoint=float(sp[i]),
-                probability_of_success=k / n,
-                probability_low=float(lo),
-                probability_high=float(hi),
-                meets_requirement=bool(lo >= p_star),
-                arrived=int(t.size),
-                duration_quantile_days=dq_est,
-                duration_quantile_days_low=dq_lo,
-                duration_quantile_days_high=dq_hi,
-                mean_margin=mm,
-                mean_margin_low=mm_lo,
-                mean_margin_high=mm_hi,
-            )
-        )
-    # ties on the lower bound (e.g. all 1.0 when uncertainty is small) go to the larger
-    # mean energy margin, then to the shorter duration quantile
-    key = [
-        (-float(f"{r.probability_low:.12g}"),
-         -float(f"{r.mean_margin:.12g}") if r.mean_margin is not None else np.inf,
-         np.inf if r.duration_quantile_days is None else r.duration_quantile_days)
-        for r in rows
-    ]
-    best = min(range(len(rows)), key=lambda i: key[i])
+    rows = [_sweep_row(sp[i], s[i], d[i], a[i], mg[i], p_star=p_star, dq=dq,
+                       confidence=confidence) for i in range(sp.size)]  # setpoints, not samples
+    best = _robust_index(rows)
+    sentence = _sweep_sentence(rows, best, setpoint_name=setpoint_name, unit=unit, p_star=p_star,
+                               dq=dq, confidence=confidence,
+                               deterministic_optimum=deterministic_optimum)
     r = rows[best]
-    pct = f"{confidence * 100:g} %"
-    u = f" {unit}" if unit else ""
-    pq = f"P{dq * 100:g}"
-    meets = "meets" if r.meets_requirement else "does NOT meet"
-    sentence = (
-        f"Set {setpoint_name} to {r.setpoint:g}{u} (robust choice: highest lower bound of P(success), ties to the larger mean margin): "
-        f"P(success) {_fmt_prob(r.probability_of_success)} ({pct} CI "
-        f"{_fmt_prob_interval(r.probability_low, r.probability_high)}), which {meets} the required "
-        f"{_fmt_prob(p_star)}; {pq} duration {_fmt_num(r.duration_quantile_days)} d."
-    )
-    if deterministic_optimum is not None:
-        det = float(deterministic_optimum)
-        match = [q for q in rows if np.isclose(q.setpoint, det, rtol=1e-9, atol=0.0)]
-        if match:
-            q = match[0]
-            sentence += (
-                f" The deterministic optimum {det:g}{u} gives P(success) {_fmt_prob(q.probability_of_success)} "
-                f"({pct} CI {_fmt_prob_interval(q.probability_low, q.probability_high)}), {pq} duration "
-                f"{_fmt_num(q.duration_quantile_days)} d."
-            )
-        else:
-            sentence += f" The deterministic optimum is {det:g}{u} (not among the swept setpoints)."
     return SweepSummary(
         setpoint_name=setpoint_name,
         unit=unit,
@@ -216,6 +162,78 @@ def sweep_summary(
         robust_index=int(best),
         deterministic_optimum=None if deterministic_optimum is None else float(deterministic_optimum),
         sentence=sentence,
+    )
+
+
+def _sweep_row(setpoint: float, success, duration_days, arrived, margin, *, p_star: float,
+               dq: float, confidence: float) -> SweepRow:
+    """P(success), the duration quantile of the arrived and the mean margin at one setpoint."""
+    n = success.size
+    k = int(np.count_nonzero(success))
+    lo, hi = _wilson(k, n, confidence)
+    t = np.sort(duration_days[arrived])
+    if t.size:
+        if not np.all(np.isfinite(t)):
+            raise DecisionInputError(
+                f"duration_days at setpoint {setpoint}: arrived samples must be finite")
+        dq_est, dq_lo, dq_hi = _quantile_with_interval(t, dq, confidence)
+    else:
+        dq_est = dq_lo = dq_hi = None
+    mm, mm_lo, mm_hi = _mean_t_interval(margin, confidence)
+    return SweepRow(
+        setpoint=float(setpoint),
+        probability_of_success=k / n,
+        probability_low=float(lo),
+        probability_high=float(hi),
+        meets_requirement=bool(lo >= p_star),
+        arrived=int(t.size),
+        duration_quantile_days=dq_est,
+        duration_quantile_days_low=dq_lo,
+        duration_quantile_days_high=dq_hi,
+        mean_margin=mm,
+        mean_margin_low=mm_lo,
+        mean_margin_high=mm_hi,
+    )
+
+
+def _robust_index(rows) -> int:
+    """The robust choice: the highest lower bound of P(success); ties (e.g. all 1.0 when
+    uncertainty is small) go to the larger mean energy margin, then to the shorter duration
+    quantile."""
+    key = [
+        (-float(f"{r.probability_low:.12g}"),
+         -float(f"{r.mean_margin:.12g}") if r.mean_margin is not None else np.inf,
+         np.inf if r.duration_quantile_days is None else r.duration_quantile_days)
+        for r in rows
+    ]
+    return min(range(len(rows)), key=lambda i: key[i])
+
+
+def _sweep_sentence(rows, best: int, *, setpoint_name: str, unit: str, p_star: float, dq: float,
+                    confidence: float, deterministic_optimum) -> str:
+    """The recommendation, with the deterministic optimum beside it when given."""
+    r = rows[best]
+    pct = f"{confidence * 100:g} %"
+    u = f" {unit}" if unit else ""
+    pq = f"P{dq * 100:g}"
+    meets = "meets" if r.meets_requirement else "does NOT meet"
+    sentence = (
+        f"Set {setpoint_name} to {r.setpoint:g}{u} (robust choice: highest lower bound of P(success), ties to the larger mean margin): "
+        f"P(success) {_fmt_prob(r.probability_of_success)} ({pct} CI "
+        f"{_fmt_prob_interval(r.probability_low, r.probability_high)}), which {meets} the required "
+        f"{_fmt_prob(p_star)}; {pq} duration {_fmt_num(r.duration_quantile_days)} d."
+    )
+    if deterministic_optimum is None:
+        return sentence
+    det = float(deterministic_optimum)
+    match = [q for q in rows if np.isclose(q.setpoint, det, rtol=1e-9, atol=0.0)]
+    if not match:
+        return sentence + f" The deterministic optimum is {det:g}{u} (not among the swept setpoints)."
+    q = match[0]
+    return sentence + (
+        f" The deterministic optimum {det:g}{u} gives P(success) {_fmt_prob(q.probability_of_success)} "
+        f"({pct} CI {_fmt_prob_interval(q.probability_low, q.probability_high)}), {pq} duration "
+        f"{_fmt_num(q.duration_quantile_days)} d."
     )
 
 

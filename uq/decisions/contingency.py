@@ -115,6 +115,40 @@ def _shift(x: float | None, by: float, scale: float = 1.0) -> float | None:
     return None if x is None else (x - by) * scale
 
 
+def _arrival_times(arrival_days, arrived, day_rate: float) -> tuple[np.ndarray, int]:
+    """Arrival times of the samples that arrived (finite, sample order) and the number of
+    samples; refuses a negative day rate or a sample where none arrived."""
+    if not day_rate >= 0:
+        raise OutOfRangeError(f"day_rate={day_rate!r}: expected a non-negative cost per day")
+    t_all = _as_float_1d(arrival_days, "arrival_days")
+    ok = _as_bool_1d(arrived, "arrived")
+    n = _same_length(arrival_days=t_all, arrived=ok)
+    t = t_all[ok]
+    if t.size == 0:
+        raise EmptySampleError(f"none of the {n} samples arrived: no arrival time to book against")
+    if not np.all(np.isfinite(t)):
+        raise DecisionInputError("arrival_days: arrived samples must have finite durations")
+    return t, n
+
+
+def _booking_row(t_sorted: np.ndarray, q: float, nominal_days: float, day_rate: float,
+                 confidence: float) -> BookingRow:
+    """Ship time at arrival quantile q, the contingency over plan and its cost."""
+    b, lo, hi = _quantile_with_interval(t_sorted, q, confidence)
+    return BookingRow(
+        quantile=q,
+        booking_days=b,
+        booking_days_low=lo,
+        booking_days_high=hi,
+        contingency_days=b - nominal_days,
+        contingency_days_low=_shift(lo, nominal_days),
+        contingency_days_high=_shift(hi, nominal_days),
+        contingency_cost=(b - nominal_days) * day_rate,
+        contingency_cost_low=_shift(lo, nominal_days, day_rate),
+        contingency_cost_high=_shift(hi, nominal_days, day_rate),
+    )
+
+
 def ship_time_contingency(
     arrival_days,
     *,
@@ -156,36 +190,10 @@ def ship_time_contingency(
     qs = sorted({_check_probability_open(q, "quantiles entry") for q in quantiles} | {bq})
     if not nominal_days > 0:
         raise OutOfRangeError(f"nominal_days={nominal_days!r}: expected a positive duration [d]")
-    if not day_rate >= 0:
-        raise OutOfRangeError(f"day_rate={day_rate!r}: expected a non-negative cost per day")
-    t_all = _as_float_1d(arrival_days, "arrival_days")
-    ok = _as_bool_1d(arrived, "arrived")
-    n = _same_length(arrival_days=t_all, arrived=ok)
-    t = t_all[ok]
+    t, n = _arrival_times(arrival_days, arrived, day_rate)
     m = t.size
-    if m == 0:
-        raise EmptySampleError(f"none of the {n} samples arrived: no arrival time to book against")
-    if not np.all(np.isfinite(t)):
-        raise DecisionInputError("arrival_days: arrived samples must have finite durations")
     t_sorted = np.sort(t)
-
-    rows = []
-    for q in qs:
-        b, lo, hi = _quantile_with_interval(t_sorted, q, confidence)
-        rows.append(
-            BookingRow(
-                quantile=q,
-                booking_days=b,
-                booking_days_low=lo,
-                booking_days_high=hi,
-                contingency_days=b - nominal_days,
-                contingency_days_low=_shift(lo, nominal_days),
-                contingency_days_high=_shift(hi, nominal_days),
-                contingency_cost=(b - nominal_days) * day_rate,
-                contingency_cost_low=_shift(lo, nominal_days, day_rate),
-                contingency_cost_high=_shift(hi, nominal_days, day_rate),
-            )
-        )
+    rows = [_booking_row(t_sorted, q, nominal_days, day_rate, confidence) for q in qs]
     booking = rows[qs.index(bq)]
     b = booking.booking_days
     idle, idle_lo, idle_hi = _mean_t_interval(np.maximum(b - t, 0.0), confidence)
@@ -370,17 +378,9 @@ def recovery_window_booking(
         raise OutOfRangeError(f"window_quantiles={window_quantiles!r}: expected early < late")
     if not ship_transit_days >= 0:
         raise OutOfRangeError(f"ship_transit_days={ship_transit_days!r}: expected >= 0 days")
-    if not day_rate >= 0:
-        raise OutOfRangeError(f"day_rate={day_rate!r}: expected a non-negative cost per day")
-    t_all = _as_float_1d(arrival_days, "arrival_days")
-    ok = _as_bool_1d(arrived, "arrived")
-    n = _same_length(arrival_days=t_all, arrived=ok)
-    t = np.sort(t_all[ok])
+    t, n = _arrival_times(arrival_days, arrived, day_rate)
+    t = np.sort(t)
     m = t.size
-    if m == 0:
-        raise EmptySampleError(f"none of the {n} samples arrived: no arrival time to book against")
-    if not np.all(np.isfinite(t)):
-        raise DecisionInputError("arrival_days: arrived samples must have finite durations")
 
     rows = []
     for q in (q_lo, 0.5, q_hi) if q_lo < 0.5 < q_hi else (q_lo, q_hi):

@@ -112,19 +112,17 @@ def _split(values: np.ndarray, sizes: Sequence[int]) -> list[np.ndarray]:
 
 
 def _mean(values: np.ndarray, sizes: Sequence[int], scheme: str, confidence: float):
-    """Mean with its interval by the assessment's rule: replicate t-interval for RQMC."""
-    if scheme == "sobol" and len(sizes) >= 2:
-        means = [float(np.mean(part)) for part in _split(values, sizes)]
-        if len(set(means)) > 1:
-            est = estimators.replicate_interval(means, confidence=confidence)
-            return estimators.IntervalEstimate(
-                estimate=est.estimate, lower=max(0.0, est.lower), upper=min(1.0, est.upper),
-                confidence=est.confidence, method=est.method, n=int(values.size))
+    """Mean of a per-sample probability by the one mean rule
+    (:func:`uq.estimators.replicated_mean`: a replicate t-interval for RQMC), kept in [0, 1]."""
     if np.ptp(values) == 0.0:
         v = float(values[0])
         return estimators.IntervalEstimate(estimate=v, lower=v, upper=v, confidence=confidence,
                                            method="exact (no spread)", n=int(values.size))
-    est = estimators.mean_interval(values, confidence=confidence)
+    parts = _split(values, sizes)
+    randomised = (scheme == "sobol" and len(sizes) >= 2
+                  and len({float(np.mean(part)) for part in parts}) > 1)
+    est = estimators.replicated_mean(parts if randomised else [values], randomised=randomised,
+                                     confidence=confidence)
     return estimators.IntervalEstimate(
         estimate=est.estimate, lower=max(0.0, est.lower), upper=min(1.0, est.upper),
         confidence=est.confidence, method=est.method, n=int(values.size))

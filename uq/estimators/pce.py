@@ -9,7 +9,8 @@ with ``E[p^{(j)}_k p^{(j)}_l] = delta_kl`` under marginal j.  The 1-D
 families come from the three-term recurrence coefficients chaospy computes
 for each marginal (``chaospy.stieltjes``: analytic where the distribution
 has them, discretised Stieltjes otherwise) and are evaluated by the
-orthonormal recurrence, which is better conditioned than expanded monomials.
+orthonormal recurrence, which is better conditioned than expanded monomials
+(the basis and the least-squares solver live in :mod:`uq.estimators.pce_basis`).
 
 Multi-indices follow the hyperbolic (q-norm) truncation
 ``(sum_j a_j^q)^(1/q) <= p`` of Blatman & Sudret (2011) [2]_.  For each
@@ -45,6 +46,10 @@ from __future__ import annotations
 
 from uq.errors import InputError
 from uq.estimators.intervals import InsufficientSamplesError
+from uq.estimators.pce_basis import (LeastSquaresFit, PolynomialChaosInputError, _as_outputs,
+                                     _as_samples, _check_distributions, _design_matrix,
+                                     _orthonormal_values, _recurrence, hyperbolic_multi_indices,
+                                     least_squares_with_loo)
 
 import dataclasses
 import math
@@ -80,146 +85,12 @@ QUALITY_POOR = "poor"
 # --------------------------------------------------------------------------
 # Errors and warnings
 # --------------------------------------------------------------------------
-class PolynomialChaosInputError(InputError):
-    """Distributions, samples, outputs or options are malformed."""
-
-
-
-
 class PolynomialChaosQualityError(InputError):
     """A caller refused a surrogate whose quality is "poor"."""
 
 
 class PolynomialChaosQualityWarning(UserWarning):
     """A surrogate of "poor" quality is being used."""
-
-
-# --------------------------------------------------------------------------
-# Basis
-# --------------------------------------------------------------------------
-def hyperbolic_multi_indices(dimensions: int, degree: int, *, q_norm: float = 1.0) -> np.ndarray:
-    """Multi-indices of a hyperbolic-truncated total-degree basis.
-
-    Parameters
-    ----------
-    dimensions : int
-        Number of inputs d (>= 1).
-    degree : int
-        Maximal total degree p (>= 0).
-    q_norm : float, optional
-        q in (0, 1]; keeps a with ``(sum_j a_j^q)^(1/q) <= p``.  q = 1 is the
-        full total-degree set.
-
-    Returns
-    -------
-    ndarray of int, shape (n_terms, d)
-        Graded order; the first row is all zeros (the constant term).
-    """
-    if isinstance(dimensions, bool) or not isinstance(dimensions, (int, np.integer)) or dimensions < 1:
-        raise PolynomialChaosInputError(f"dimensions must be an integer >= 1, got {dimensions!r}")
-    if isinstance(degree, bool) or not isinstance(degree, (int, np.integer)) or degree < 0:
-        raise PolynomialChaosInputError(f"degree must be an integer >= 0, got {degree!r}")
-    if not (isinstance(q_norm, (int, float)) and 0.0 < float(q_norm) <= 1.0):
-        raise PolynomialChaosInputError(f"q_norm must be in (0, 1], got {q_norm!r}")
-    if degree == 0:
-        return np.zeros((1, int(dimensions)), dtype=int)
-    idx = numpoly.glexindex(
-        start=0,
-        stop=int(degree) + 1,
-        dimensions=int(dimensions),
-        cross_truncation=float(q_norm),
-        graded=True,
-    )
-    return np.ascontiguousarray(idx, dtype=int)
-
-
-def _recurrence(distribution: chaospy.Distribution, degree: int) -> np.ndarray:
-    """Three-term recurrence coefficients (alpha_k, beta_k), k = 0..degree."""
-    (alpha, beta), _, _ = chaospy.stieltjes(int(degree), distribution)
-    coeffs = np.stack([np.asarray(alpha, float)[0], np.asarray(beta, float)[0]])
-    if not np.all(np.isfinite(coeffs)) or np.any(coeffs[1, 1:] <= 0):
-        raise PolynomialChaosInputError(
-            f"could not build orthonormal polynomials up to degree {degree} for "
-            f"{distribution}: recurrence coefficients are not finite/positive"
-        )
-    return coeffs
-
-
-def _orthonormal_values(x: np.ndarray, coeffs: np.ndarray, degree: int) -> np.ndarray:
-    """Orthonormal polynomials p_0..p_degree at x, shape (degree + 1, n).
-
-    sqrt(b_{k+1}) p_{k+1} = (x - a_k) p_k - sqrt(b_k) p_{k-1}, p_0 = 1/sqrt(b_0).
-    """
-    alpha, beta = coeffs
-    out = np.empty((degree + 1, x.shape[0]))
-    out[0] = 1.0 / math.sqrt(beta[0])
-    if degree >= 1:
-        out[1] = (x - alpha[0]) * out[0] / math.sqrt(beta[1])
-    for k in range(1, degree):
-        out[k + 1] = ((x - alpha[k]) * out[k] - math.sqrt(beta[k]) * out[k - 1]) / math.sqrt(
-            beta[k + 1]
-        )
-    return out
-
-
-def _design_matrix(values: Sequence[np.ndarray], multi_indices: np.ndarray) -> np.ndarray:
-    """Psi[i, t] = prod_j values[j][a_tj, i], shape (n, n_terms)."""
-    psi = values[0][multi_indices[:, 0]]
-    for j in range(1, len(values)):
-        psi = psi * values[j][multi_indices[:, j]]
-    return psi.T
-
-
-# --------------------------------------------------------------------------
-# Least squares with closed-form leave-one-out
-# --------------------------------------------------------------------------
-class LeastSquaresFit(NamedTuple):
-    """Ordinary least-squares fit with leave-one-out residuals."""
-
-    coefficients: np.ndarray  #: (n_terms,)
-    residuals: np.ndarray  #: y - Psi c, (n,)
-    loo_residuals: np.ndarray  #: r_i / (1 - h_ii), (n,); inf where h_ii ~ 1
-    leverage: np.ndarray  #: hat-matrix diagonal h_ii, (n,)
-    rank: int  #: numerical rank of Psi
-
-
-def least_squares_with_loo(design_matrix: np.ndarray, outputs: np.ndarray) -> LeastSquaresFit:
-    """Least-squares coefficients and closed-form leave-one-out residuals.
-
-    Parameters
-    ----------
-    design_matrix : array_like, shape (n, m)
-        Regressors Psi evaluated at the n samples.
-    outputs : array_like, shape (n,)
-        Responses y.
-
-    Returns
-    -------
-    LeastSquaresFit
-
-    Notes
-    -----
-    For the least-squares fit, the prediction error at sample i of the model
-    refitted without sample i is ``e_i = r_i / (1 - h_ii)``, with ``r`` the
-    full-fit residuals and ``h = diag(Psi (Psi^T Psi)^-1 Psi^T)`` (Blatman &
-    Sudret 2011, Eq. 12; a classical regression identity).  The leverage is
-    computed from a thin QR factorisation, ``h_ii = sum_k Q_ik^2``.  Valid
-    when Psi has full column rank; check ``rank``.
-    """
-    psi = np.asarray(design_matrix, dtype=float)
-    y = np.asarray(outputs, dtype=float)
-    if psi.ndim != 2 or y.ndim != 1 or psi.shape[0] != y.shape[0]:
-        raise PolynomialChaosInputError(
-            f"design_matrix must be (n, m) and outputs (n,), got {psi.shape} and {y.shape}"
-        )
-    coefficients, _, rank, _ = np.linalg.lstsq(psi, y, rcond=None)
-    residuals = y - psi @ coefficients
-    q, _ = np.linalg.qr(psi, mode="reduced")
-    leverage = np.einsum("ij,ij->i", q, q)
-    denom = 1.0 - leverage
-    with np.errstate(divide="ignore", invalid="ignore"):
-        loo = np.where(denom > 1e-12, residuals / np.where(denom > 1e-12, denom, 1.0), np.inf)
-    return LeastSquaresFit(coefficients, residuals, loo, leverage, int(rank))
 
 
 # --------------------------------------------------------------------------
@@ -425,51 +296,6 @@ class PolynomialChaos:
 # --------------------------------------------------------------------------
 # Fitting
 # --------------------------------------------------------------------------
-def _as_samples(samples, d: int, what: str) -> np.ndarray:
-    x = np.asarray(samples, dtype=float)
-    if x.ndim == 1 and d == 1:
-        x = x[:, None]
-    if x.ndim != 2 or x.shape[1] != d:
-        raise PolynomialChaosInputError(
-            f"{what} must have shape (n, {d}) (one column per distribution), got {x.shape}"
-        )
-    if not np.all(np.isfinite(x)):
-        raise PolynomialChaosInputError(f"{what} contains NaN or inf")
-    return x
-
-
-def _as_outputs(outputs, n: int, what: str) -> np.ndarray:
-    y = np.asarray(outputs)
-    if y.dtype == bool:
-        y = y.astype(float)
-    y = np.asarray(y, dtype=float)
-    if y.ndim != 1 or y.shape[0] != n:
-        raise PolynomialChaosInputError(f"{what} must have shape ({n},), got {y.shape}")
-    if not np.all(np.isfinite(y)):
-        raise PolynomialChaosInputError(
-            f"{what} contains NaN or inf; map failure modes to finite values or fit "
-            "the surrogate on the finite subset"
-        )
-    return y
-
-
-def _check_distributions(distributions) -> tuple:
-    if isinstance(distributions, chaospy.Distribution):
-        raise PolynomialChaosInputError(
-            "distributions must be a sequence of 1-D chaospy marginals (one per input), "
-            f"got a single distribution {distributions}"
-        )
-    dists = tuple(distributions)
-    if not dists:
-        raise PolynomialChaosInputError("distributions must contain at least one marginal")
-    for j, dist in enumerate(dists):
-        if not isinstance(dist, chaospy.Distribution) or len(dist) != 1:
-            raise PolynomialChaosInputError(
-                f"distributions[{j}] must be a 1-D chaospy.Distribution, got {dist!r}"
-            )
-    return dists
-
-
 def _q2(y: np.ndarray, yhat: np.ndarray) -> float:
     var = float(np.var(y))
     mse = float(np.mean((y - yhat) ** 2))
@@ -545,6 +371,50 @@ def fit_polynomial_chaos(
     correction factor is applied.  The inputs must be independent (see the
     module notes for correlated inputs).
     """
+    dists, x, y, names_t, seed_seq = _fit_inputs(
+        distributions, samples, outputs, names=names, max_degree=max_degree,
+        min_oversampling=min_oversampling, patience=patience,
+        holdout_fraction=holdout_fraction, seed=seed)
+    d = len(dists)
+    max_degree = int(max_degree)
+    x_train, y_train, x_hold, y_hold = _holdout_split(x, y, holdout, holdout_fraction, seed_seq)
+    n_train = x_train.shape[0]
+    recurrences = tuple(_recurrence(dist, max_degree) for dist in dists)
+    var_train = float(np.var(y_train))
+    common = dict(
+        names=names_t,
+        distributions=dists,
+        q_norm=float(q_norm),
+        loo_threshold=float(loo_threshold),
+        q2_threshold=float(q2_threshold),
+        n_train=n_train,
+        n_holdout=0 if x_hold is None else x_hold.shape[0],
+        seed=seed_seq.entropy,
+    )
+    if var_train == 0.0:
+        # Constant response: the expansion is its constant term.
+        model = PolynomialChaos(
+            multi_indices=_readonly(np.zeros((1, d), dtype=int), int),
+            coefficients=_readonly([y_train[0]]), degree=0, loo_error=0.0, q2_holdout=None,
+            quality=QUALITY_GOOD, degree_scan=(),
+            recurrence_coefficients=tuple(r[:, :1] for r in recurrences), **common)
+        return _finish(model, x_hold, y_hold)
+
+    values = [_orthonormal_values(x_train[:, j], recurrences[j], max_degree) for j in range(d)]
+    trials, best = _scan_degrees(values, y_train, max_degree=max_degree, q_norm=q_norm,
+                                 min_oversampling=min_oversampling, patience=patience)
+    loo, p, mi, coefficients = best
+    model = PolynomialChaos(
+        multi_indices=_readonly(mi, int), coefficients=_readonly(coefficients), degree=p,
+        loo_error=loo, q2_holdout=None, quality=QUALITY_GOOD, degree_scan=tuple(trials),
+        recurrence_coefficients=tuple(r[:, : p + 1] for r in recurrences), **common)
+    return _finish(model, x_hold, y_hold)
+
+
+def _fit_inputs(distributions, samples, outputs, *, names, max_degree, min_oversampling,
+                patience, holdout_fraction, seed):
+    """Checked inputs and options of :func:`fit_polynomial_chaos`:
+    ``(distributions, x, y, names, seed sequence)``."""
     dists = _check_distributions(distributions)
     d = len(dists)
     x = _as_samples(samples, d, "samples")
@@ -567,8 +437,6 @@ def fit_polynomial_chaos(
         raise PolynomialChaosInputError(
             f"holdout_fraction must be in [0, 1), got {holdout_fraction!r}"
         )
-    max_degree = int(max_degree)
-
     if isinstance(seed, np.random.Generator):
         seed_seq = np.random.SeedSequence(int(seed.integers(2**63)))
     elif seed is None or (isinstance(seed, (int, np.integer)) and not isinstance(seed, bool) and seed >= 0):
@@ -577,7 +445,13 @@ def fit_polynomial_chaos(
         raise PolynomialChaosInputError(
             f"seed must be None, a non-negative integer or a numpy Generator, got {seed!r}"
         )
+    return dists, x, y, names_t, seed_seq
 
+
+def _holdout_split(x, y, holdout, holdout_fraction, seed_seq):
+    """``(x_train, y_train, x_hold, y_hold)``: a given validation set, a random held-out
+    fraction, or no holdout (``None`` for the held-out pair)."""
+    d = x.shape[1]
     if holdout is not None:
         try:
             xh_raw, yh_raw = holdout
@@ -586,9 +460,8 @@ def fit_polynomial_chaos(
                 "holdout must be a pair (samples (m, d), outputs (m,))"
             ) from exc
         x_hold = _as_samples(xh_raw, d, "holdout samples")
-        y_hold = _as_outputs(yh_raw, x_hold.shape[0], "holdout outputs")
-        x_train, y_train = x, y
-    elif holdout_fraction > 0.0:
+        return x, y, x_hold, _as_outputs(yh_raw, x_hold.shape[0], "holdout outputs")
+    if holdout_fraction > 0.0:
         n_hold = int(round(holdout_fraction * x.shape[0]))
         if n_hold < 2 or x.shape[0] - n_hold < 2:
             raise PolynomialChaosInputError(
@@ -597,42 +470,18 @@ def fit_polynomial_chaos(
             )
         perm = np.random.default_rng(seed_seq).permutation(x.shape[0])
         hold, train = perm[:n_hold], perm[n_hold:]
-        x_train, y_train, x_hold, y_hold = x[train], y[train], x[hold], y[hold]
-    else:
-        x_train, y_train, x_hold, y_hold = x, y, None, None
+        return x[train], y[train], x[hold], y[hold]
+    return x, y, None, None
 
-    n_train = x_train.shape[0]
-    recurrences = tuple(_recurrence(dist, max_degree) for dist in dists)
+
+def _scan_degrees(values, y_train, *, max_degree, q_norm, min_oversampling, patience):
+    """Fit degrees 1, 2, ... by least squares and keep the smallest LOO error.
+
+    Returns ``(trials, (loo, degree, multi-indices, coefficients))``; raises
+    :class:`InsufficientSamplesError` when no degree can be fitted.
+    """
+    d, n_train = len(values), y_train.shape[0]
     var_train = float(np.var(y_train))
-
-    common = dict(
-        names=names_t,
-        distributions=dists,
-        q_norm=float(q_norm),
-        loo_threshold=float(loo_threshold),
-        q2_threshold=float(q2_threshold),
-        n_train=n_train,
-        n_holdout=0 if x_hold is None else x_hold.shape[0],
-        seed=seed_seq.entropy,
-    )
-
-    if var_train == 0.0:
-        # Constant response: the expansion is its constant term.
-        mi = np.zeros((1, d), dtype=int)
-        model = PolynomialChaos(
-            multi_indices=_readonly(mi, int),
-            coefficients=_readonly([y_train[0]]),
-            degree=0,
-            loo_error=0.0,
-            q2_holdout=None,
-            quality=QUALITY_GOOD,
-            degree_scan=(),
-            recurrence_coefficients=tuple(r[:, :1] for r in recurrences),
-            **common,
-        )
-        return _finish(model, x_hold, y_hold)
-
-    values = [_orthonormal_values(x_train[:, j], recurrences[j], max_degree) for j in range(d)]
     trials: list[DegreeTrial] = []
     best: tuple[float, int, np.ndarray, np.ndarray] | None = None
     since_best = 0
@@ -662,19 +511,7 @@ def fit_polynomial_chaos(
             f"in {d} inputs with min_oversampling={min_oversampling}: need at least "
             f"{n_needed} (after the holdout split); scan: {trials}"
         )
-    loo, p, mi, coefficients = best
-    model = PolynomialChaos(
-        multi_indices=_readonly(mi, int),
-        coefficients=_readonly(coefficients),
-        degree=p,
-        loo_error=loo,
-        q2_holdout=None,
-        quality=QUALITY_GOOD,
-        degree_scan=tuple(trials),
-        recurrence_coefficients=tuple(r[:, : p + 1] for r in recurrences),
-        **common,
-    )
-    return _finish(model, x_hold, y_hold)
+    return trials, best
 
 
 def _finish(model: PolynomialChaos, x_hold, y_hold) -> PolynomialChaos:

@@ -38,7 +38,7 @@ import numpy as np
 from scipy import stats
 
 from uq.estimators.intervals import EstimatorError, check_confidence
-from uq.sampling.engine import CollectReducer, stream
+from uq.estimators.streamed import GivenRows, evaluate_rows
 
 __all__ = [
     "SaltelliRows",
@@ -65,67 +65,19 @@ MAX_SUGGESTED_BASE_N = 2**20
 
 
 # ------------------------------------------------------------------ streaming the design
-@dataclass(frozen=True, eq=False)
-class SaltelliRows:
-    """Streaming view of a Saltelli design's rows, in the layout the engine walks.
-
-    Implements the plan interface :func:`uq.sampling.engine.stream` reads (``n``,
-    ``dimension``, ``block_size``, ``n_blocks``, ``block_rows``, ``unit_points``); the
-    rows are the design's own, so the outputs come back in design row order whatever the
-    block size, chunking or executor.
-    """
-
-    points: np.ndarray
-    block_size: int = 4096
-
-    @property
-    def n(self) -> int:
-        return int(self.points.shape[0])
-
-    @property
-    def dimension(self) -> int:
-        return int(self.points.shape[1])
-
-    @property
-    def n_blocks(self) -> int:
-        return -(-self.n // self.block_size)
-
-    def block_rows(self, block_index: int) -> tuple[int, int]:
-        start = block_index * self.block_size
-        return start, min(start + self.block_size, self.n)
-
-    def unit_points(self, start: int = 0, stop: int | None = None) -> np.ndarray:
-        return np.array(self.points[start:self.n if stop is None else stop])
+#: the rows of a Saltelli design stream as any given rows do
+SaltelliRows = GivenRows
 
 
 def evaluate_saltelli(design, model_fn: Callable[[np.ndarray], Any], keys: Sequence[str], *,
                       input_model=None, executor=None, chunk_blocks: int = 1,
                       block_size: int = 4096) -> dict[str, np.ndarray]:
-    """Evaluate ``model_fn`` on every row of a Saltelli design through the streaming engine.
-
-    Parameters
-    ----------
-    design : uq.estimators.sobol.SaltelliDesign
-        The design; its unit points are mapped by ``input_model`` (if given) block by block.
-    model_fn : callable
-        ``model_fn(x) -> dict of arrays``; picklable for process or Dask executors.
-    keys : sequence of str
-        Outputs to keep, in design row order.
-    input_model : uq.sampling.inputs.InputModel, optional
-    executor : object with an ordered ``.map``, optional
-        ``ProcessPoolExecutor``, :class:`uq.sampling.backends.DaskExecutor`, ... ; None runs
-        in this process.
-    chunk_blocks, block_size : int
-        Streaming granularity only; the outputs do not depend on them.
-
-    Returns
-    -------
-    dict of str to ndarray
-        One array of ``design.n_runs`` values per key.
-    """
-    rows = SaltelliRows(np.asarray(design.unit_points), block_size=int(block_size))
-    return stream(rows, model_fn, CollectReducer(tuple(keys), rows.n), input_model=input_model,
-                  executor=executor, chunk_blocks=chunk_blocks)
+    """Evaluate ``model_fn`` on every row of a Saltelli design (a
+    :class:`uq.estimators.sobol.SaltelliDesign`) through the streaming engine: the design's
+    unit points go to :func:`uq.estimators.streamed.evaluate_rows` with the same options,
+    and one array of ``design.n_runs`` values per key comes back, in design row order."""
+    return evaluate_rows(design.unit_points, model_fn, keys, input_model=input_model,
+                         executor=executor, chunk_blocks=chunk_blocks, block_size=block_size)
 
 
 # ------------------------------------------------------------------ PCE group indices

@@ -96,7 +96,7 @@ class SequentialRule:
         if self.max_looks == 1:
             return "One look at the sample; no correction for repeated looks is needed."
         return (f"Sequential rule: the {self.confidence:.0%} error budget is split equally "
-                f"(Bonferroni) over {self.max_looks} predeclared doubling looks, so each "
+                f"(Bonferroni) over {self.max_looks} predeclared looks, so each "
                 f"look's interval is at {self.per_look_confidence:.3%}; {looks_taken} "
                 f"look{'s' if looks_taken != 1 else ''} taken.")
 

@@ -1,6 +1,7 @@
 """Variance-based (Sobol') sensitivity indices from a Saltelli design.
 
-The design lives on the unit hypercube ``[0, 1]^d``; the caller maps the unit
+The design (:mod:`uq.estimators.sobol_design`) lives on the unit hypercube ``[0, 1]^d``;
+the caller maps the unit
 points to physical inputs (inverse CDFs, copulas, ...) and evaluates the model
 on every row *in the order of the design*.  The estimator then reads the
 design's own metadata (base size, number of factors or groups, second-order
@@ -34,20 +35,21 @@ References
 
 from __future__ import annotations
 
-from uq.errors import InputError
 from uq.estimators.intervals import check_confidence
+from uq.estimators.sobol_design import (BaseSizeError, FactorNamesError, OutputLengthError,
+                                        SaltelliDesign, SensitivityOptionError, _seed_entropy,
+                                        saltelli_design)
 
 import math
 import numbers
 import zlib
-from collections.abc import Iterator, Mapping, Sequence
-from dataclasses import dataclass, field
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass
 from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 from SALib.analyze import sobol as _salib_analyze
-from SALib.sample import sobol as _salib_sample
 
 __all__ = [
     "BaseSizeError",
@@ -66,287 +68,6 @@ __all__ = [
 STATUS_OK = "ok"
 STATUS_ZERO_VARIANCE = "zero variance"
 STATUS_NON_FINITE = "non-finite"
-
-
-# --------------------------------------------------------------------------
-# Errors
-# --------------------------------------------------------------------------
-class BaseSizeError(InputError):
-    """The Saltelli base size is not a power of two (>= 2)."""
-
-
-class FactorNamesError(InputError):
-    """Factor names or groups are empty, duplicated or inconsistent."""
-
-
-class OutputLengthError(InputError):
-    """An output array does not match the design it claims to come from."""
-
-
-class SensitivityOptionError(InputError):
-    """An estimator option (confidence level, bootstrap size, ...) is invalid."""
-
-
-# --------------------------------------------------------------------------
-# Design
-# --------------------------------------------------------------------------
-def _check_base_n(base_n: object) -> int:
-    if isinstance(base_n, bool) or not isinstance(base_n, (int, np.integer)):
-        raise BaseSizeError(
-            f"base_n must be an integer power of two, got {base_n!r} "
-            f"({type(base_n).__name__})"
-        )
-    n = int(base_n)
-    if n < 2 or (n & (n - 1)) != 0:
-        if n < 2:
-            hint = "the smallest allowed is 2"
-        else:
-            low = 1 << (n.bit_length() - 1)
-            hint = f"nearest powers of two are {low} and {2 * low}"
-        raise BaseSizeError(
-            f"base_n must be a power of two >= 2 (scrambled Sobol' points keep "
-            f"their balance only for n = 2^m), got {n}; {hint}"
-        )
-    return n
-
-
-def _check_names(names: Sequence[str]) -> tuple[str, ...]:
-    if isinstance(names, str):
-        raise FactorNamesError(
-            f"names must be a sequence of strings, got the single string {names!r}"
-        )
-    out = tuple(names)
-    if len(out) == 0:
-        raise FactorNamesError("names must contain at least one factor name, got none")
-    for name in out:
-        if not isinstance(name, str) or not name:
-            raise FactorNamesError(f"every factor name must be a non-empty string, got {name!r}")
-    dupes = sorted({n for n in out if out.count(n) > 1})
-    if dupes:
-        raise FactorNamesError(f"factor names must be unique, duplicated: {dupes}")
-    return out
-
-
-def _check_groups(
-    names: tuple[str, ...],
-    groups: Mapping[str, Sequence[str]] | Sequence[Sequence[str]] | None,
-) -> tuple[tuple[tuple[str, ...], ...] | None, tuple[str, ...] | None]:
-    """Validate groups; return (members per group, group labels) in SALib order.
-
-    SALib orders groups by first appearance along ``names``; groups are put
-    in that order here so labels, design columns and indices always agree.
-    """
-    if groups is None:
-        return None, None
-    if isinstance(groups, Mapping):
-        labelled = [(str(label), tuple(members)) for label, members in groups.items()]
-    else:
-        if isinstance(groups, str):
-            raise FactorNamesError(
-                f"groups must be a sequence of name sequences or a mapping, got {groups!r}"
-            )
-        labelled = []
-        for members in groups:
-            if isinstance(members, str):
-                members = (members,)
-            members = tuple(members)
-            labelled.append(("+".join(members), members))
-    if not labelled:
-        raise FactorNamesError("groups must contain at least one group, got none")
-    seen: dict[str, str] = {}
-    for label, members in labelled:
-        if not members:
-            raise FactorNamesError(f"group {label!r} is empty")
-        for m in members:
-            if m not in names:
-                raise FactorNamesError(
-                    f"group {label!r} names factor {m!r}, which is not in names {list(names)}"
-                )
-            if m in seen:
-                raise FactorNamesError(
-                    f"factor {m!r} is in two groups ({seen[m]!r} and {label!r}); "
-                    "each factor must be in exactly one group"
-                )
-            seen[m] = label
-    missing = [n for n in names if n not in seen]
-    if missing:
-        raise FactorNamesError(
-            f"every factor must belong to a group; not grouped: {missing}"
-        )
-    labels = [label for label, _ in labelled]
-    if len(set(labels)) != len(labels):
-        raise FactorNamesError(f"group labels must be unique, got {labels}")
-    position = {n: i for i, n in enumerate(names)}
-    labelled.sort(key=lambda item: min(position[m] for m in item[1]))
-    members_sorted = tuple(tuple(sorted(m, key=position.__getitem__)) for _, m in labelled)
-    return members_sorted, tuple(label for label, _ in labelled)
-
-
-def _seed_entropy(seed: int | np.random.SeedSequence | None) -> int | Sequence[int]:
-    """Entropy of a design seed (recorded so a design can be rebuilt)."""
-    if isinstance(seed, np.random.SeedSequence):
-        return seed.entropy
-    if seed is None:
-        return np.random.SeedSequence().entropy
-    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-        raise SensitivityOptionError(
-            f"seed must be None, a non-negative integer or a SeedSequence, got {seed!r}"
-        )
-    return int(seed)
-
-
-def _problem_dict(
-    names: tuple[str, ...],
-    groups: tuple[tuple[str, ...], ...] | None,
-    labels: tuple[str, ...] | None,
-) -> dict:
-    """SALib problem dict on the unit hypercube."""
-    problem = {
-        "num_vars": len(names),
-        "names": list(names),
-        "bounds": [[0.0, 1.0]] * len(names),
-    }
-    if groups is not None:
-        label_of = {m: lab for lab, members in zip(labels, groups) for m in members}
-        problem["groups"] = [label_of[n] for n in names]
-    return problem
-
-
-@dataclass(frozen=True, eq=False)
-class SaltelliDesign:
-    """A Saltelli cross-sampled design on the unit hypercube.
-
-    Attributes
-    ----------
-    names : tuple of str
-        Factor names, one per column of `unit_points`.
-    base_n : int
-        Base sample size N (a power of two).
-    second_order : bool
-        Whether the design carries the extra N·D rows needed for
-        second-order indices.
-    seed : int
-        Entropy of the scrambling seed (rebuilds the same design).
-    groups : tuple of tuple of str or None
-        Factor groups (members per group), ordered by first appearance in
-        `names`; None when every factor is its own group.
-    group_labels : tuple of str or None
-        One label per group.
-    unit_points : ndarray, shape (n_runs, d)
-        Points in [0, 1)^d, read-only, in the row order the estimator expects.
-    """
-
-    names: tuple[str, ...]
-    base_n: int
-    second_order: bool
-    seed: int | Sequence[int]
-    groups: tuple[tuple[str, ...], ...] | None
-    unit_points: np.ndarray = field(repr=False)
-    group_labels: tuple[str, ...] | None = None
-
-    def __post_init__(self) -> None:
-        expected = (self.n_runs, len(self.names))
-        if self.unit_points.shape != expected:
-            raise OutputLengthError(
-                f"unit_points has shape {self.unit_points.shape}, expected {expected} "
-                f"for base_n={self.base_n}, {self.n_factors} factors/groups, "
-                f"second_order={self.second_order}"
-            )
-        if self.unit_points.flags.writeable:
-            points = np.array(self.unit_points, dtype=float)  # never freeze the caller's array
-            points.flags.writeable = False
-            object.__setattr__(self, "unit_points", points)
-
-    @property
-    def n_factors(self) -> int:
-        """Number of sensitivity factors D (groups if grouped, else inputs)."""
-        return len(self.groups) if self.groups is not None else len(self.names)
-
-    @property
-    def factor_labels(self) -> tuple[str, ...]:
-        """Labels of the D factors the indices refer to."""
-        return self.group_labels if self.group_labels is not None else self.names
-
-    @property
-    def n_runs(self) -> int:
-        """Number of model runs: N(D+2), or N(2D+2) with second order."""
-        d = self.n_factors
-        return self.base_n * (2 * d + 2 if self.second_order else d + 2)
-
-    def problem(self) -> dict:
-        """A fresh SALib problem dict for this design (unit bounds)."""
-        return _problem_dict(self.names, self.groups, self.group_labels)
-
-
-def saltelli_design(
-    names: Sequence[str],
-    *,
-    base_n: int,
-    second_order: bool = False,
-    seed: int | np.random.SeedSequence | None,
-    groups: Mapping[str, Sequence[str]] | Sequence[Sequence[str]] | None = None,
-) -> SaltelliDesign:
-    """Build a scrambled Sobol'/Saltelli design on the unit hypercube.
-
-    Parameters
-    ----------
-    names : sequence of str
-        Factor names, one per input dimension.
-    base_n : int
-        Base sample size N; must be a power of two (Owen 2020 [4]_).
-    second_order : bool, optional
-        Add the N·D extra rows needed for second-order indices.
-    seed : int, SeedSequence or None
-        Scrambling seed.  Required (pass None explicitly for fresh entropy,
-        which is then recorded in ``design.seed``).
-    groups : mapping or sequence of sequences, optional
-        Factor groups: ``{"label": ("a", "b"), ...}`` or ``(("a", "b"), ("c",))``
-        (labels then ``"a+b"``, ``"c"``).  Every factor must be in exactly
-        one group.
-
-    Returns
-    -------
-    SaltelliDesign
-        Design with ``n_runs = N(D+2)`` rows, or ``N(2D+2)`` with second
-        order, D being the number of groups (or of names).
-
-    Raises
-    ------
-    BaseSizeError
-        If `base_n` is not a power of two >= 2.
-    FactorNamesError
-        If names or groups are inconsistent.
-
-    Notes
-    -----
-    The first Sobol' point is kept (no skipping) and the sequence is
-    scrambled (LMS + digital shift, via ``scipy.stats.qmc.Sobol`` inside
-    SALib), as recommended by Owen (2020).
-    """
-    names_t = _check_names(names)
-    n = _check_base_n(base_n)
-    members, labels = _check_groups(names_t, groups)
-    entropy = _seed_entropy(seed)
-    problem = _problem_dict(names_t, members, labels)
-    sequence = seed if isinstance(seed, np.random.SeedSequence) else np.random.SeedSequence(entropy)
-    generator = np.random.default_rng(sequence)
-    points = _salib_sample.sample(
-        problem,
-        n,
-        calc_second_order=bool(second_order),
-        scramble=True,
-        seed=generator,
-    )
-    points = np.ascontiguousarray(points, dtype=float)
-    return SaltelliDesign(
-        names=names_t,
-        base_n=n,
-        second_order=bool(second_order),
-        seed=entropy,
-        groups=members,
-        unit_points=points,
-        group_labels=labels,
-    )
 
 
 # --------------------------------------------------------------------------
@@ -512,21 +233,28 @@ def _constant_result(
         np.fill_diagonal(s, np.nan)
         second = _readonly(s)
         second_iv = Interval(second, second)
+    return _indices(name, design, (v, v, v), (v, v, v), status=status, confidence=confidence,
+                    n_bootstrap=n_bootstrap, mean=mean, var=var, second=second,
+                    second_interval=second_iv)
+
+
+def _indices(name: str, design: SaltelliDesign, first, total, **fields) -> SobolIndices:
+    """:class:`SobolIndices` from ``(estimate, low, high)`` of the first and total indices."""
     return SobolIndices(
         output=name,
         factors=design.factor_labels,
-        first=_readonly(v),
-        first_interval=Interval(_readonly(v), _readonly(v)),
-        total=_readonly(v),
-        total_interval=Interval(_readonly(v), _readonly(v)),
-        status=status,
-        confidence=confidence,
-        n_bootstrap=n_bootstrap,
+        first=_readonly(first[0]),
+        first_interval=Interval(_readonly(first[1]), _readonly(first[2])),
+        total=_readonly(total[0]),
+        total_interval=Interval(_readonly(total[1]), _readonly(total[2])),
+        status=fields["status"],
+        confidence=fields["confidence"],
+        n_bootstrap=fields["n_bootstrap"],
         base_n=design.base_n,
-        output_mean=mean,
-        output_variance=var,
-        second=second,
-        second_interval=second_iv,
+        output_mean=fields["mean"],
+        output_variance=fields["var"],
+        second=fields["second"],
+        second_interval=fields["second_interval"],
     )
 
 
@@ -589,6 +317,35 @@ def sobol_indices(
     indices 0; an output with NaN or inf with status ``"non-finite"`` and all
     indices NaN.  Neither is passed to SALib.
     """
+    root = _check_options(design, outputs, confidence=confidence, n_bootstrap=n_bootstrap,
+                          variance_rtol=variance_rtol, seed=seed)
+    confidence = float(confidence)
+    n_bootstrap = int(n_bootstrap)
+    results: dict[str, SobolIndices] = {}
+    for name, values in outputs.items():
+        y = _checked_output(name, values, design)
+        if not np.all(np.isfinite(y)):
+            results[name] = _constant_result(
+                name, design, np.nan, STATUS_NON_FINITE, confidence, n_bootstrap,
+                float("nan"), float("nan"),
+            )
+            continue
+        mean = float(y.mean())
+        var = float(y.var())
+        if np.ptp(y) == 0.0 or math.sqrt(var) <= variance_rtol * abs(mean):
+            results[name] = _constant_result(
+                name, design, 0.0, STATUS_ZERO_VARIANCE, confidence, n_bootstrap, mean, var
+            )
+            continue
+        results[name] = _salib_indices(name, y, design, confidence=confidence,
+                                       n_bootstrap=n_bootstrap,
+                                       rng=_output_stream(root, name), mean=mean, var=var)
+    return SobolResults(results, design, root.entropy)
+
+
+def _check_options(design, outputs, *, confidence, n_bootstrap, variance_rtol,
+                   seed) -> np.random.SeedSequence:
+    """Refuse a malformed call of :func:`sobol_indices`; returns the bootstrap root seed."""
     if not isinstance(design, SaltelliDesign):
         raise OutputLengthError(
             f"design must be a SaltelliDesign (it carries N, D and the second-order "
@@ -603,85 +360,60 @@ def sobol_indices(
         raise SensitivityOptionError(f"variance_rtol must be finite and >= 0, got {variance_rtol!r}")
     if not isinstance(outputs, Mapping) or len(outputs) == 0:
         raise OutputLengthError("outputs must be a non-empty mapping of output name to array")
-
     if isinstance(seed, np.random.Generator):
-        root = np.random.SeedSequence(int(seed.integers(2**63)))
-    elif isinstance(seed, np.random.SeedSequence):
-        root = seed
-    else:
-        root = np.random.SeedSequence(_seed_entropy(seed))
+        return np.random.SeedSequence(int(seed.integers(2**63)))
+    if isinstance(seed, np.random.SeedSequence):
+        return seed
+    return np.random.SeedSequence(_seed_entropy(seed))
 
-    confidence = float(confidence)
-    n_bootstrap = int(n_bootstrap)
+
+def _checked_output(name: str, values, design: SaltelliDesign) -> np.ndarray:
+    """One output as floats of the design's run count, in design row order."""
+    y = np.asarray(values)
+    if y.dtype == bool:
+        y = y.astype(float)
+    try:
+        y = np.asarray(y, dtype=float)
+    except (TypeError, ValueError) as exc:
+        raise OutputLengthError(f"output {name!r} is not numeric: {exc}") from exc
+    if y.ndim != 1 or y.shape[0] != design.n_runs:
+        raise OutputLengthError(
+            f"output {name!r} has shape {y.shape}, expected ({design.n_runs},) = "
+            f"base_n {design.base_n} x ({'2D+2' if design.second_order else 'D+2'}) "
+            f"with D={design.n_factors}; evaluate the model on every row of the design, in order"
+        )
+    return y
+
+
+def _salib_indices(name: str, y: np.ndarray, design: SaltelliDesign, *, confidence: float,
+                   n_bootstrap: int, rng, mean: float, var: float) -> SobolIndices:
+    """SALib's Saltelli/Jansen estimates of one varying output, with the design's own
+    problem and second-order flag, as :class:`SobolIndices`."""
     d = design.n_factors
-    results: dict[str, SobolIndices] = {}
-    for name, values in outputs.items():
-        y = np.asarray(values)
-        if y.dtype == bool:
-            y = y.astype(float)
-        try:
-            y = np.asarray(y, dtype=float)
-        except (TypeError, ValueError) as exc:
-            raise OutputLengthError(f"output {name!r} is not numeric: {exc}") from exc
-        if y.ndim != 1 or y.shape[0] != design.n_runs:
-            raise OutputLengthError(
-                f"output {name!r} has shape {y.shape}, expected ({design.n_runs},) = "
-                f"base_n {design.base_n} x ({'2D+2' if design.second_order else 'D+2'}) "
-                f"with D={d}; evaluate the model on every row of the design, in order"
-            )
-        if not np.all(np.isfinite(y)):
-            results[name] = _constant_result(
-                name, design, np.nan, STATUS_NON_FINITE, confidence, n_bootstrap,
-                float("nan"), float("nan"),
-            )
-            continue
-        mean = float(y.mean())
-        var = float(y.var())
-        sd = math.sqrt(var)
-        if np.ptp(y) == 0.0 or sd <= variance_rtol * abs(mean):
-            results[name] = _constant_result(
-                name, design, 0.0, STATUS_ZERO_VARIANCE, confidence, n_bootstrap, mean, var
-            )
-            continue
-
-        raw = _salib_analyze.analyze(
-            design.problem(),
-            y,
-            calc_second_order=design.second_order,
-            num_resamples=n_bootstrap,
-            conf_level=confidence,
-            print_to_console=False,
-            seed=_output_stream(root, name),
-        )
-        s1, s1h = np.asarray(raw["S1"], float), np.asarray(raw["S1_conf"], float)
-        st, sth = np.asarray(raw["ST"], float), np.asarray(raw["ST_conf"], float)
-        second = second_iv = None
-        if design.second_order:
-            s2 = np.asarray(raw["S2"], float)
-            s2h = np.asarray(raw["S2_conf"], float)
-            iu = np.triu_indices(d, k=1)
-            sym = np.full((d, d), np.nan)
-            symh = np.full((d, d), np.nan)
-            sym[iu] = s2[iu]
-            symh[iu] = s2h[iu]
-            sym.T[iu] = s2[iu]
-            symh.T[iu] = s2h[iu]
-            second = _readonly(sym)
-            second_iv = Interval(_readonly(sym - symh), _readonly(sym + symh))
-        results[name] = SobolIndices(
-            output=name,
-            factors=design.factor_labels,
-            first=_readonly(s1),
-            first_interval=Interval(_readonly(s1 - s1h), _readonly(s1 + s1h)),
-            total=_readonly(st),
-            total_interval=Interval(_readonly(st - sth), _readonly(st + sth)),
-            status=STATUS_OK,
-            confidence=confidence,
-            n_bootstrap=n_bootstrap,
-            base_n=design.base_n,
-            output_mean=mean,
-            output_variance=var,
-            second=second,
-            second_interval=second_iv,
-        )
-    return SobolResults(results, design, root.entropy)
+    raw = _salib_analyze.analyze(
+        design.problem(),
+        y,
+        calc_second_order=design.second_order,
+        num_resamples=n_bootstrap,
+        conf_level=confidence,
+        print_to_console=False,
+        seed=rng,
+    )
+    s1, s1h = np.asarray(raw["S1"], float), np.asarray(raw["S1_conf"], float)
+    st, sth = np.asarray(raw["ST"], float), np.asarray(raw["ST_conf"], float)
+    second = second_iv = None
+    if design.second_order:
+        s2 = np.asarray(raw["S2"], float)
+        s2h = np.asarray(raw["S2_conf"], float)
+        iu = np.triu_indices(d, k=1)
+        sym = np.full((d, d), np.nan)
+        symh = np.full((d, d), np.nan)
+        sym[iu] = s2[iu]
+        symh[iu] = s2h[iu]
+        sym.T[iu] = s2[iu]
+        symh.T[iu] = s2h[iu]
+        second = _readonly(sym)
+        second_iv = Interval(_readonly(sym - symh), _readonly(sym + symh))
+    return _indices(name, design, (s1, s1 - s1h, s1 + s1h), (st, st - sth, st + sth),
+                    status=STATUS_OK, confidence=confidence, n_bootstrap=n_bootstrap, mean=mean,
+                    var=var, second=second, second_interval=second_iv)

@@ -158,6 +158,8 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "surrogate_factor_indices": (sens.pce_factors.to_rows()
                                      if sens is not None and sens.pce_factors is not None else None),
         "sequential_rule": dict(getattr(a, "sequential", {}) or {}),
+        "estimators": a.estimators() if hasattr(a, "estimators") else None,
+        "rare_events": a.rare_events.to_dict() if getattr(a, "rare_events", None) else None,
         "sensitivity_indices": indices,
         "surrogate": pce,
         "test_ranking": tests,

@@ -1172,6 +1172,9 @@ class _Reader:
             "scheme": lambda r, v, p: r.choice(v, p, SCHEMES, what="the sampling scheme"),
             "replicates": lambda r, v, p: r.integer(v, p, minimum=1, what="independent replicates"),
             "sensitivity_base_n": lambda r, v, p: r.integer(v, p, minimum=2, what="Sobol' base sample size"),
+            "rare_events": lambda r, v, p: r.choice(v, p, ("auto", "always", "off"),
+                                                    what="when to use the rare-event estimator"),
+            "max_looks": lambda r, v, p: r.integer(v, p, minimum=1, what="looks at P(success)"),
         }
         out = self.read_fields(table, "analysis", fields)
         result = Analysis(**out)

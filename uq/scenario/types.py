@@ -289,6 +289,8 @@ class Analysis:
     scheme: str = "sobol"  # "sobol" | "monte-carlo" | "latin-hypercube"
     replicates: int = 16  # independent scramblings for the RQMC interval (coverage: uq.estimators.replicates)
     sensitivity_base_n: int = 512
+    rare_events: str = "auto"  # "auto" | "always" | "off" (uq.studies.rare)
+    max_looks: int = 1  # looks at P(success) the run may take (uq.studies.extension)
 
 
 @dataclass(frozen=True)

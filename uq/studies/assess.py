@@ -2,15 +2,17 @@
 
 ``assess(scenario)`` runs, in order:
 
-1. propagation — K independently scrambled Sobol' replicates (or one Monte Carlo / Latin
-   hypercube plan) streamed through the transit model; P(success) with its interval (the one
-   rule of :func:`uq.estimators.success_probability`), the probability-of-reaching-range curve
-   with pointwise intervals and a simultaneous DKW band, range/duration quantiles with
-   order-statistic intervals, the mean energy margin;
-2. sensitivity — a Saltelli design streamed through the engine (so workers and Dask speed it
-   up) for range, duration, margin and the failure indicator (correlated inputs grouped, one
-   factor per group), and a polynomial chaos surrogate of the margin with Sobol indices from
-   its coefficients, bootstrap intervals, and its leave-one-out / holdout quality;
+1. propagation (:mod:`uq.studies.propagation`) — K independently scrambled Sobol' replicates
+   (or one Monte Carlo / Latin hypercube plan) streamed through the transit model; P(success)
+   with its interval (the one rule of :func:`uq.estimators.success_probability`), the
+   probability-of-reaching-range curve, range/duration quantiles, the mean energy margin and
+   the outcome table; optionally repeated looks under the sequential rule;
+   rare events (:mod:`uq.studies.rare`) — when the main sample holds too few failures for
+   them (or the requirement asks for 0.999 or more), P(fail) and every failure class by
+   subset simulation, which then give P(success) and the outcome rows;
+2. sensitivity (:mod:`uq.studies.sensitivity_stage`) — Saltelli indices streamed through the
+   engine for range, duration, margin and the failure indicator (correlated inputs grouped),
+   and a polynomial chaos surrogate of the margin with its indices and quality;
 3. decisions — go/no-go on the confidence bound, failure modes and legs, ship-time
    contingency, P(success) with each input pinned at its 10th/90th percentile, and the
    ranking of candidate tests by value of information (or by total Sobol index when the
@@ -33,16 +35,19 @@ from typing import Any, Callable
 import numpy as np
 
 from uq import decisions, estimators
-from uq.decisions.outcome_table import outcome_table as tabulate_outcomes
-from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
-from uq.sampling.inputs import InputModel
-from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, plan_size
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE
 from uq.scenario import Scenario
-from uq.simulate import FAILURE_MODE_NAMES, NominalResult, Outcomes, ScenarioModel, nominal
+from uq.simulate import FAILURE_MODE_NAMES, NominalResult, ScenarioModel, nominal
 from uq.studies.decide import knowledge_band_of, rank_scenario_tests
+from uq.studies.extension import ExtensionError, extension_settings, recorded_run
+from uq.studies.propagation import (OUTPUT_KEYS, Propagation, Settings, _settings,
+                                    input_model_of, propagate)
+from uq.studies.rare import RareEventStage, rare_event_reason, rare_event_stage, with_rare_events
+from uq.studies.sensitivity_stage import SENSITIVITY_OUTPUTS, Sensitivity, sensitivity_analysis
 
 __all__ = [
     "OUTPUT_KEYS",
+    "SENSITIVITY_OUTPUTS",
     "Settings",
     "Propagation",
     "Sensitivity",
@@ -53,364 +58,6 @@ __all__ = [
     "assess",
     "package_versions",
 ]
-
-#: per-sample outputs kept from the propagation (plus the input values themselves)
-OUTPUT_KEYS = Outcomes.__dataclass_fields__.keys()
-_RANGE_QUANTILES = (0.05, 0.1, 0.5, 0.9, 0.95)
-_DURATION_QUANTILES = (0.5, 0.9, 0.95)
-#: outputs whose Sobol indices are reported, with their units
-SENSITIVITY_OUTPUTS = {"range_km": "km", "duration_days": "days", "margin_Wh": "Wh",
-                       "failure": "indicator"}
-
-
-@dataclass(frozen=True)
-class Settings:
-    """Numerical settings of one assessment (defaults from the scenario's [analysis])."""
-
-    samples: int  # total samples of the propagation (all replicates)
-    seed: int
-    scheme: str  # "sobol" | "monte-carlo" | "latin-hypercube"
-    replicates: int  # independent scramblings (sobol only; 1 otherwise)
-    sensitivity_base_n: int  # Saltelli base N; 0 = skip the sensitivity stage
-    confidence: float
-    workers: int = 1
-    chunk_blocks: int = 1
-    block_size: int = DEFAULT_BLOCK_SIZE
-    polynomial_chaos: bool = True
-    #: predeclared maximum number of looks at P(success) (sequential rule; 1 = one look)
-    max_looks: int = 1
-
-    @property
-    def p_success_confidence(self) -> float:
-        """Confidence of the P(success) interval at one look under the sequential rule."""
-        return estimators.SequentialRule(self.confidence, self.max_looks).per_look_confidence
-
-    @property
-    def samples_per_replicate(self) -> int:
-        return self.samples // self.replicates
-
-    def to_dict(self) -> dict:
-        return {k: getattr(self, k) for k in self.__dataclass_fields__}
-
-
-def _settings(scenario: Scenario, **overrides) -> Settings:
-    a = scenario.analysis
-    scheme = overrides.get("scheme") or a.scheme
-    replicates = overrides.get("replicates") or a.replicates
-    if scheme != "sobol":
-        replicates = 1
-    _, samples = plan_size(int(overrides.get("samples") or a.samples), scheme=scheme,
-                           replicates=int(replicates))
-    base_n = overrides.get("sensitivity_base_n")
-    base_n = a.sensitivity_base_n if base_n is None else int(base_n)
-    seed = overrides.get("seed")
-    return Settings(
-        samples=samples,
-        seed=int(a.seed if seed is None else seed),
-        scheme=scheme,
-        replicates=int(replicates),
-        sensitivity_base_n=base_n,
-        confidence=scenario.decision.confidence,
-        workers=int(overrides.get("workers") or 1),
-        chunk_blocks=int(overrides.get("chunk_blocks") or 1),
-        block_size=int(overrides.get("block_size") or DEFAULT_BLOCK_SIZE),
-        polynomial_chaos=overrides.get("polynomial_chaos", True),
-    )
-
-
-def input_model_of(scenario: Scenario) -> InputModel:
-    """The scenario's named marginals with their rank correlations (Gaussian copula)."""
-    names = scenario.input_names
-    if not scenario.correlations:
-        return InputModel(scenario.inputs)
-    index = {name: i for i, name in enumerate(names)}
-    matrix = np.eye(len(names))
-    for c in scenario.correlations:
-        i, j = index[c.inputs[0]], index[c.inputs[1]]
-        matrix[i, j] = matrix[j, i] = c.coefficient
-    return InputModel(scenario.inputs, rank_correlation=matrix)
-
-
-@dataclass(frozen=True)
-class _ModelWithInputs:
-    """Model function that also returns its physical inputs (kept for value of information)."""
-
-    model: ScenarioModel
-
-    def __call__(self, x: np.ndarray) -> dict[str, np.ndarray]:
-        out = dict(self.model(x))
-        out["inputs"] = x
-        return out
-
-
-@dataclass(frozen=True)
-class Propagation:
-    """Per-sample outcomes of the main sample and the estimators built on them."""
-
-    designs: tuple[SampleDesign, ...]
-    outcomes: Outcomes  # pooled over replicates, plan order
-    inputs: np.ndarray  # (n, d) physical input values, same rows
-    input_names: tuple[str, ...]
-    p_success: estimators.IntervalEstimate
-    p_success_replicates: tuple[float, ...]
-    p_arrive: estimators.IntervalEstimate
-    range_curve: estimators.ExceedanceCurve
-    range_quantiles: tuple[estimators.QuantileInterval, ...]
-    duration_quantiles: tuple[estimators.QuantileInterval, ...]
-    mean_margin_Wh: estimators.IntervalEstimate
-    route_km: float
-    outcome_table: Any = None  # uq.decisions.OutcomeTable: classes, point of no return, faults
-
-    @property
-    def samples(self) -> int:
-        return int(self.outcomes["success"].size)
-
-
-def _proportion(counts: list[tuple[int, int]], scheme: str, confidence: float):
-    """The one P(success) rule (:func:`uq.estimators.success_probability`) in the
-    ``(estimate, replicate fractions)`` form the outcome table takes."""
-    est = estimators.success_probability(counts, randomised=scheme == "sobol",
-                                         confidence=confidence)
-    return est, est.replicate_fractions
-
-
-def _quantiles(values: np.ndarray, qs, confidence: float):
-    out = []
-    for q in qs:
-        try:
-            out.append(estimators.quantile_interval(values, q, confidence=confidence))
-        except estimators.EstimatorError:
-            continue  # too few values for a distribution-free interval at this level
-    return tuple(out)
-
-
-def propagate(scenario: Scenario, settings: Settings, *, executor=None,
-              progress: Callable[[int], None] | None = None) -> Propagation:
-    """Stream the main sample through the transit model and estimate the headline figures."""
-    model = _ModelWithInputs(ScenarioModel(scenario))
-    input_model = input_model_of(scenario)
-    d = len(scenario.inputs)
-    per = settings.samples_per_replicate
-    designs = tuple(
-        SampleDesign(scheme=settings.scheme, n=per, dimension=max(d, 1), seed=settings.seed,
-                     replicate=r, block_size=min(settings.block_size, per))
-        for r in range(settings.replicates)
-    )
-    pieces, counts, arrive_counts = [], [], []
-    done = 0
-    for design in designs:
-        reducer = MultiReducer({
-            "rows": CollectReducer(tuple(OUTPUT_KEYS) + ("inputs",), design.n),
-            "success": CountReducer("success"),
-            "arrived": CountReducer("reaches_recovery"),
-        })
-
-        def _progress(rows, _base=done):
-            if progress is not None:
-                progress(_base + rows)
-
-        result = stream(design, _DimensionGuard(model, d), reducer,
-                        input_model=input_model if d else None,
-                        chunk_blocks=settings.chunk_blocks, executor=executor,
-                        progress=_progress)
-        done += design.n
-        pieces.append(result["rows"])
-        counts.append((result["success"].count, result["success"].n))
-        arrive_counts.append((result["arrived"].count, result["arrived"].n))
-    outcomes = Outcomes.from_columns({k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS})
-    inputs = np.concatenate([p["inputs"] for p in pieces])[:, :d]
-    conf = settings.confidence
-    randomised = settings.scheme == "sobol"
-    p_conf = settings.p_success_confidence
-    p_success = estimators.success_probability(counts, randomised=randomised, confidence=p_conf)
-    p_arrive = estimators.success_probability(arrive_counts, randomised=randomised,
-                                              confidence=p_conf)
-    route = scenario.route_length_km
-    cap = float(np.max(outcomes["range_km"]))
-    grid = np.linspace(0.0, max(cap, route) * 1.0, 241)
-    curve = estimators.exceedance_curve(outcomes["range_km"], grid, confidence=conf)
-    durations = outcomes["duration_days"][outcomes["reaches_recovery"]]
-    return Propagation(
-        designs=designs,
-        outcomes=outcomes,
-        inputs=inputs,
-        input_names=scenario.input_names,
-        p_success=p_success,
-        p_success_replicates=p_success.replicate_fractions,
-        p_arrive=p_arrive,
-        range_curve=curve,
-        range_quantiles=_quantiles(outcomes["range_km"], _RANGE_QUANTILES, conf),
-        duration_quantiles=_quantiles(durations, _DURATION_QUANTILES, conf),
-        mean_margin_Wh=estimators.replicated_mean([p["margin_Wh"] for p in pieces],
-                                                  randomised=randomised, confidence=conf),
-        route_km=route,
-        outcome_table=tabulate_outcomes(
-            outcomes, replicate_sizes=[d.n for d in designs], scheme=settings.scheme,
-            confidence=conf, proportion=_proportion,
-            subsystems=len(scenario.hardware.subsystems)),
-    )
-
-
-@dataclass(frozen=True)
-class _DimensionGuard:
-    """Lets a scenario with no uncertain input run on the engine's 1-column plan."""
-
-    model: Any
-    dimension: int
-
-    def __call__(self, x):
-        return self.model(x[:, : self.dimension])
-
-
-@dataclass(frozen=True)
-class Sensitivity:
-    """Variance-based sensitivity of the outputs (Saltelli) and the PCE surrogate of the margin.
-
-    A factor is an input, or a group of correlated inputs (one factor, named by its
-    members); only a group's indices are defined, so its members are never ranked one by one.
-    """
-
-    sobol: Any  # uq.estimators.sobol.SobolResults, keyed by output, one entry per factor
-    factors: tuple[str, ...]  # input names or correlated-group labels
-    groups: tuple[tuple[str, ...], ...] | None
-    base_n: int
-    runs: int
-    pce: Any | None  # uq.estimators.pce.PolynomialChaos of margin_Wh
-    pce_indices: Any | None  # per input (a group member shows its group's value)
-    pce_space: str  # "physical inputs" | "independent unit variables"
-    notes: tuple[str, ...] = ()
-    pce_factors: Any | None = None  # uq.estimators.sensitivity.GroupIndices, with intervals
-    #: output -> exact (lower, upper) bounds of the total index of a 0/1 output
-    indicator_bounds: dict | None = None
-
-    @property
-    def members(self) -> tuple[tuple[str, ...], ...]:
-        """Member inputs of each factor, in the order of ``factors``."""
-        return tuple(self._members(label) for label in self.factors)
-
-    def total_index(self, output: str) -> dict[str, float]:
-        """Total index per input name, for display beside an input (a group's index is
-        shown beside each of its members; rank with :meth:`ranking`, not with this)."""
-        res = self.sobol[output]
-        out = {}
-        for label, st in zip(res.factors, np.asarray(res.total, dtype=float)):
-            for m in self._members(label):
-                out[m] = float(st)
-        return out
-
-    def ranking(self, output: str = "failure", tiebreak: str = "range_km"):
-        """Factors ranked by the total index of ``output``, each with its interval.
-
-        Returns
-        -------
-        uq.estimators.sensitivity.FactorRanking
-        """
-        from uq.estimators import sensitivity as sens_est
-
-        res = self.sobol[output]
-        total_low = np.asarray(res.total_interval.low, dtype=float)
-        total_high = np.asarray(res.total_interval.high, dtype=float)
-        if self.indicator_bounds is not None and output in self.indicator_bounds:
-            lo, hi = self.indicator_bounds[output]
-            total_low, total_high = np.minimum(total_low, lo), np.maximum(total_high, hi)
-        first, total = np.asarray(res.first, float), np.asarray(res.total, float)
-        return sens_est.rank_factors(
-            self.factors, self.members, first,
-            np.minimum(res.first_interval.low, first), np.maximum(res.first_interval.high, first),
-            total, np.minimum(total_low, total), np.maximum(total_high, total),
-            base_n=self.base_n, output=output,
-            tiebreak=np.asarray(self.sobol[tiebreak].total, float) if tiebreak else None)
-
-    def _members(self, label: str) -> tuple[str, ...]:
-        if self.groups is None:
-            return (label,)
-        for g in self.groups:
-            if "+".join(g) == label or (len(g) == 1 and g[0] == label):
-                return g
-        return (label,)
-
-
-def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Propagation,
-                         *, seed: np.random.SeedSequence, executor=None) -> Sensitivity | None:
-    """Saltelli indices of the outputs (streamed through the engine) and the PCE of the margin."""
-    d = len(scenario.inputs)
-    if d == 0 or settings.sensitivity_base_n <= 0:
-        return None
-    from uq.estimators import sensitivity as sens_est
-    from uq.estimators import sobol as sa
-
-    input_model = input_model_of(scenario)
-    names = scenario.input_names
-    group_list = [tuple(g) for g in input_model.groups()]
-    grouped = any(len(g) > 1 for g in group_list)
-    design_seed, boot_seed, pce_seed = seed.spawn(3)
-    design = sa.saltelli_design(
-        names, base_n=settings.sensitivity_base_n, second_order=False,
-        seed=int(design_seed.generate_state(1)[0]),
-        groups=group_list if grouped else None,
-    )
-    out = sens_est.evaluate_saltelli(
-        design, ScenarioModel(scenario), ("range_km", "duration_days", "margin_Wh", "success"),
-        input_model=input_model, executor=executor, chunk_blocks=settings.chunk_blocks,
-        block_size=min(settings.block_size, 4096))
-    outputs = {
-        "range_km": out["range_km"],
-        "duration_days": out["duration_days"],
-        "margin_Wh": out["margin_Wh"],
-        "failure": (~out["success"]).astype(float),
-    }
-    sobol = sa.sobol_indices(design, outputs, confidence=settings.confidence,
-                             seed=int(boot_seed.generate_state(1)[0]))
-    bounds = {"failure": sens_est.indicator_total_bounds(outputs["failure"], design.n_factors,
-                                                         confidence=settings.confidence)}
-    pce_part = _margin_surrogate(scenario, settings, propagation, input_model, group_list,
-                                 seed=pce_seed) if settings.polynomial_chaos else {}
-    return Sensitivity(
-        sobol=sobol, factors=tuple(sobol["range_km"].factors),
-        groups=tuple(group_list) if grouped else None, base_n=settings.sensitivity_base_n,
-        runs=design.n_runs, indicator_bounds=bounds,
-        **({"pce": None, "pce_indices": None, "pce_space": "physical inputs"} | pce_part))
-
-
-def _margin_surrogate(scenario, settings, propagation, input_model, group_list, *, seed) -> dict:
-    """PCE of the energy margin with per-factor indices and their bootstrap intervals."""
-    from uq.estimators import pce as pce_module
-    from uq.estimators import sensitivity as sens_est
-
-    names, d = scenario.input_names, len(scenario.inputs)
-    grouped = any(len(g) > 1 for g in group_list)
-    boot_seed = seed.spawn(1)[0]
-    n_fit = min(propagation.samples, 2048)
-    y = propagation.outcomes["margin_Wh"][:n_fit]
-    space = "physical inputs"
-    if input_model.is_independent:
-        dists = [m.to_chaospy() for m in scenario.inputs]
-        xs = propagation.inputs[:n_fit]
-    else:
-        import chaospy
-
-        space = "independent unit variables; correlated inputs by group"
-        dists = [chaospy.Uniform(0.0, 1.0) for _ in names]
-        xs = np.concatenate([dz.unit_points() for dz in propagation.designs])[:n_fit, :d]
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", pce_module.PolynomialChaosQualityWarning)
-        pce = pce_module.fit_polynomial_chaos(
-            dists, xs, y, max_degree=3 if d > 10 else 5,
-            seed=int(seed.generate_state(1)[0]), names=names)
-    factors = sens_est.pce_group_indices(
-        pce, xs, y, group_list, confidence=settings.confidence, n_bootstrap=100,
-        rng=np.random.default_rng(boot_seed))
-    indices = pce.sobol_indices()
-    if grouped:
-        indices = sens_est.members_show_group(indices, factors)
-    notes = []
-    if pce.quality != "good":
-        notes.append(
-            f"The polynomial chaos surrogate of the energy margin is poor (LOO error "
-            f"{pce.loo_error:.3f}, holdout Q2 {pce.q2_holdout:.3f}); its indices are shown "
-            "for reference only - rely on the Saltelli estimates.")
-    return {"pce": pce, "pce_indices": indices, "pce_space": space, "pce_factors": factors,
-            "notes": tuple(notes)}
 
 
 @dataclass(frozen=True)
@@ -441,6 +88,18 @@ class Assessment:
     flight: decisions.PilotActions | None = None
     #: the sequential rule behind the P(success) interval: rule, max_looks, looks_taken, ...
     sequential: dict = field(default_factory=dict)
+    #: P(fail) and the failure classes by subset simulation (None when the stage did not run)
+    rare_events: RareEventStage | None = None
+
+    def estimators(self) -> dict[str, str]:
+        """Which estimator gave each headline probability: ``p_success``, ``p_arrive`` and
+        ``outcomes.<class>`` -> the method of its interval."""
+        prop = self.propagation
+        out = {"p_success": prop.p_success.method, "p_arrive": prop.p_arrive.method}
+        if prop.outcome_table is not None:
+            out.update({f"outcomes.{r.key}": r.probability.method
+                        for r in prop.outcome_table.rows})
+        return out
 
     @property
     def p_success(self) -> estimators.IntervalEstimate:
@@ -526,6 +185,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,
            block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
+           rare_events: str | None = None, max_looks: int | None = None,
+           extends: Any = None,
            progress: Callable[[str, int, int], None] | None = None,
            executor=None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
@@ -540,12 +201,23 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     repeated looks at one question, so the number of looks is declared before the first and
     each look's interval is widened by the sequential rule (``Assessment.sequential`` and a
     caution name the rule and the looks taken); the verdict keeps its nominal false-GO rate.
+    ``max_looks`` (default the scenario's ``[analysis] max_looks``, 1) declares how many looks
+    at P(success) this run may take, so that ``extends`` — the recorded run's parsed
+    ``summary.json`` or its Assessment — can take the next one with more samples under the
+    same rule (:mod:`uq.studies.extension`); every look's interval is at ``1 - alpha / L``.
+    ``rare_events`` ("auto", "always" or "off"; default the scenario's ``[analysis]``)
+    chooses when P(fail) and the failure classes are estimated by subset simulation
+    (:mod:`uq.studies.rare`); ``Assessment.estimators()`` names the estimator of each number.
     ``progress(stage, done, total)`` is called as the stages advance (for a progress bar).
     """
-    settings = _settings(scenario, samples=samples, seed=seed, scheme=scheme,
-                         replicates=replicates, sensitivity_base_n=sensitivity_base_n,
-                         workers=workers, chunk_blocks=chunk_blocks, block_size=block_size,
-                         polynomial_chaos=polynomial_chaos)
+    options = dict(samples=samples, seed=seed, scheme=scheme, replicates=replicates,
+                   sensitivity_base_n=sensitivity_base_n, workers=workers,
+                   chunk_blocks=chunk_blocks, block_size=block_size,
+                   polynomial_chaos=polynomial_chaos, rare_events=rare_events,
+                   max_looks=max_looks)
+    settings, look = _settings(scenario, **options), None
+    if extends is not None:
+        settings, look = _extension(scenario, extends, options, target_half_width)
     # stage streams on their own spawn key, apart from the plans' (seed, replicate, block) keys
     stage_seeds = np.random.SeedSequence(settings.seed, spawn_key=(2**31,)).spawn(3)
     timings: dict[str, float] = {}
@@ -560,6 +232,12 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             max_samples=max_samples, progress=progress)
         convergence = [(n, est.half_width) for n, est in sequential.history]
         timings["propagation"] = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        rare = _rare_events(scenario, settings, prop, seed=stage_seeds[2], executor=executor,
+                            progress=progress, cautions=cautions)
+        if rare is not None:
+            prop = with_rare_events(prop, rare)
+            timings["rare_events"] = time.perf_counter() - t0
         if progress:
             progress("sensitivity", 0, 1)
         t0 = time.perf_counter()
@@ -592,8 +270,14 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             "scramblings; the range-curve bands, quantile intervals and failure shares treat "
             "the pooled scrambled points as independent samples, which is conservative for "
             "randomised quasi-Monte Carlo.")
+    looks_taken = sequential.looks if look is None else look
     if sequential.rule.max_looks > 1:
-        cautions.append(sequential.rule.describe(sequential.looks))
+        cautions.append(sequential.rule.describe(looks_taken))
+    elif parts["verdict"].verdict == "undecided" and target_half_width is None:
+        cautions.append(
+            "A re-run with more samples is a second look at the same question and raises the "
+            "false-GO rate: declare looks with [analysis] max_looks before the first run and "
+            "extend it from its summary.json, or use auto-convergence (target_half_width).")
     if target_half_width is not None and convergence[-1][1] > target_half_width:
         cautions.append(
             f"The P(success) half-width target {target_half_width:g} was not reached within "
@@ -604,7 +288,60 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         scenario=scenario, settings=settings, propagation=prop, sensitivity=sens,
         nominal=base, cautions=tuple(cautions), timings_s=timings,
         versions=package_versions(), convergence=tuple(convergence),
-        sequential=sequential.rule.to_dict(sequential.looks), **parts)
+        sequential=sequential.rule.to_dict(looks_taken), rare_events=rare, **parts)
+
+
+def _extension(scenario, extends, options: dict, target_half_width):
+    """Settings of the next look of a recorded run, and that look's number."""
+    recorded = recorded_run(extends)
+    if target_half_width is not None:
+        raise ExtensionError("extend a recorded run or converge to a half-width target, not "
+                             "both: auto-convergence declares its own looks")
+    for key in ("seed", "scheme", "replicates"):
+        given = options.get(key)
+        if given is not None and given != getattr(recorded, key):
+            raise ExtensionError(f"{key} {given!r}: the recorded run used "
+                                 f"{getattr(recorded, key)!r}; an extension repeats it")
+    options = dict(options, seed=recorded.seed, scheme=recorded.scheme,
+                   replicates=recorded.replicates, max_looks=recorded.max_looks)
+    return extension_settings(recorded, _settings(scenario, **options),
+                              scenario_sha256=scenario.source_sha256)
+
+
+def _rare_events(scenario, settings: Settings, prop: Propagation, *, seed, executor,
+                 progress, cautions: list[str]) -> RareEventStage | None:
+    """The rare-event stage when ``settings.rare_events`` and the main sample ask for it."""
+    if not scenario.inputs:
+        return None
+    success = prop.outcomes["success"]
+    reason = rare_event_reason(
+        settings.rare_events, failures=int(success.size - np.count_nonzero(success)),
+        samples=int(success.size), p_success=prop.p_success,
+        required_probability=scenario.decision.required_probability)
+    if reason is None:
+        return None
+    if progress:
+        progress("rare events", 0, 1)
+    try:
+        stage = rare_event_stage(
+            ScenarioModel(scenario), input_model_of(scenario), reason=reason,
+            plain_p_success=prop.p_success, confidence=settings.p_success_confidence,
+            seed=seed, executor=executor, chunk_blocks=settings.chunk_blocks,
+            block_size=min(settings.block_size, 4096))
+    except estimators.EstimatorError as exc:
+        cautions.append(f"Rare-event stage ({reason}) gave no estimate: {exc}; P(success) "
+                        "is the main sample's.")
+        return None
+    finally:
+        if progress:
+            progress("rare events", 1, 1)
+    cautions.append(
+        f"P(fail) {stage.failure.probability.estimate:.2e} (interval "
+        f"{stage.failure.probability.lower:.2e} to {stage.failure.probability.upper:.2e}) and "
+        f"the failure classes are estimated by {stage.failure.method}, "
+        f"{stage.failure.model_runs:,} model runs, because {reason}; the main sample gave "
+        f"P(success) {prop.p_success.estimate:.5f}.")
+    return stage
 
 
 def _propagate_to_target(scenario, settings: Settings, *, executor, target_half_width,
@@ -627,15 +364,17 @@ def _propagate_to_target(scenario, settings: Settings, *, executor, target_half_
         return prop.p_success
 
     if target_half_width is None:
-        looks = 1
-        start = end = settings.samples
-        target = float("inf")
-    else:
-        start, end = settings.samples, max(int(max_samples), settings.samples)
-        looks = estimators.planned_looks(start, end)
-        target = float(target_half_width)
-    result = estimators.grow_until(run, target_half_width=target, n_start=start, n_max=end,
-                                   confidence=settings.confidence)
+        # one look, at the per-look level of the looks the run declared ([analysis] max_looks)
+        looks = settings.max_looks
+        estimate = run(settings.samples, settings.p_success_confidence)
+        return last["prop"], last["settings"], estimators.ConvergenceResult(
+            estimate=estimate, n=settings.samples, converged=True,
+            history=((settings.samples, estimate),),
+            rule=estimators.SequentialRule(settings.confidence, looks))
+    start, end = settings.samples, max(int(max_samples), settings.samples)
+    looks = estimators.planned_looks(start, end)
+    result = estimators.grow_until(run, target_half_width=float(target_half_width),
+                                   n_start=start, n_max=end, confidence=settings.confidence)
     return last["prop"], last["settings"], result
 
 

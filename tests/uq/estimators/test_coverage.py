@@ -32,12 +32,14 @@ def test_rqmc_replicate_interval_covers_95_percent_over_1000_repetitions():
     # 1000 repetitions: binomial sd of the coverage is sqrt(.95 * .05 / 1000) = 0.7 %,
     # so the 93-97 % band is about +-3 sd.
     coverage = _coverage("sobol", 1000, n=256, replicates=8)
+    print(f"RQMC, 8 replicates of 256, P = {P_TRUE:.4f}: coverage {coverage:.3f}")
     assert 0.93 <= coverage <= 0.97, coverage
 
 
 @pytest.mark.slow
 def test_monte_carlo_wilson_interval_covers_95_percent_over_1000_repetitions():
     coverage = _coverage("monte-carlo", 1000, n=2048, replicates=1)
+    print(f"Monte Carlo, 2048 samples, P = {P_TRUE:.4f}: coverage {coverage:.3f}")
     assert 0.93 <= coverage <= 0.97, coverage
 
 
@@ -72,5 +74,7 @@ def test_default_16_replicates_cover_near_the_boundary(target):
     # measured 95.7 % at 0.96 and 96.1 % at 0.99; a Student-t interval over 8 replicates
     # gave 92.8 % at 0.99. The false-GO side (interval above the truth) stays <= 3.5 %.
     coverage, low_miss = _coverage_at(target, 1000, n=128, replicates=16)
+    print(f"RQMC, 16 replicates of 128, P = {target}: coverage {coverage:.3f}, lower-side "
+          f"miss {low_miss:.3f}")
     assert 0.93 <= coverage <= 0.97, coverage
     assert low_miss <= 0.035, low_miss

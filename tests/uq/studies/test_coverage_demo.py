@@ -1,6 +1,11 @@
 """Coverage of the assessment's P(success) interval on the under-ice demo (slow).
 
-The demo's true P(success) is taken from a reference run 128 times larger than the runs
+The demo itself sits near P = 0.83 since the under-ice outcome classes (homing and loiter
+at the recovery point are paid above the reserve); two variants with a larger pack put it
+where the review's requirements sit: 17,000 Wh near P = 0.96 and 17,900 Wh near P = 0.99
+(located with 8,192-sample runs; the reference run below checks where each one lands).
+
+The variant's true P(success) is taken from a reference run 128 times larger than the runs
 under test (16 x 2^14 scrambled Sobol' points; its own interval half width is about 0.0003,
 twenty times narrower than the intervals being checked, so its error barely moves the
 coverage). Each of 500 seeds then runs the assessment's propagation at N = 2,048 (16
@@ -34,21 +39,24 @@ def _coverage(scenario, seeds=500):
                                           sensitivity_base_n=0)).p_success
         covered += p.lower <= reference <= p.upper
         low_miss += p.lower > reference
+    # the measured figures, shown by ``pytest -m slow -rP`` for the closing note
+    print(f"reference P {reference:.5f}: coverage {covered / seeds:.3f}, lower-side miss "
+          f"(false-GO side) {low_miss / seeds:.3f} over {seeds} seeds")
     return reference, covered / seeds, low_miss / seeds
 
 
 @pytest.mark.slow
-def test_p_success_interval_covers_93_to_97_percent_on_the_demo():
-    reference, coverage, low_miss = _coverage(_scenario())
-    assert 0.95 <= reference <= 0.97  # the demo sits near P = 0.96
+def test_p_success_interval_covers_93_to_97_percent_near_0_96():
+    reference, coverage, low_miss = _coverage(_scenario(17_000.0))
+    assert 0.95 <= reference <= 0.97  # the variant sits near P = 0.96
     assert 0.93 <= coverage <= 0.97, coverage
     assert low_miss <= 0.035, low_miss  # the false-GO side
 
 
 @pytest.mark.slow
 def test_p_success_interval_covers_93_to_97_percent_near_0_99():
-    # variant: a 16,750 Wh pack instead of 16,000 Wh puts the demo near P = 0.99
-    reference, coverage, low_miss = _coverage(_scenario(16_750.0))
+    # variant: a 17,900 Wh pack instead of 16,000 Wh puts the demo near P = 0.99
+    reference, coverage, low_miss = _coverage(_scenario(17_900.0))
     assert 0.985 <= reference <= 0.995
     assert 0.93 <= coverage <= 0.97, coverage
     assert low_miss <= 0.035, low_miss
