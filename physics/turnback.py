@@ -159,7 +159,8 @@ def _return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across, path,
             overlap = np.clip(np.minimum(x[:, k], bounds[:, i + 1]) - np.maximum(start, bounds[:, i]),
                               0.0, None)
             r = rates(i, profile.fouling[:, k])
-            track = _currents.ground_track(r.speed_through_water, -c_along[:, i], c_across[:, i])
+            track = _currents.track_made_good(r.speed_through_water, -c_along[:, i],
+                                              c_across[:, i], _currents.CRAB)
             fine = (r.state == FailureMode.NONE) & track.headway \
                 & (track.ground_speed > min_ground_speed)
             per_metre = path[:, i] / np.where(fine, track.ground_speed, 1.0)
