@@ -507,12 +507,17 @@ def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
     """
     col = (lambda a: a[:, None])
     t = np.tan(col(flat)) * _TAU[None, :]
-    disc = np.maximum(t * t - 4.0 * col(k) * col(cd0), 0.0)
-    cl = 2.0 * col(cd0) / (t + np.sqrt(disc))
-    secant3 = (1.0 + t * t) ** 1.5  # 1 / cos^3
-    b = 0.5 * col(rho) * col(area) * cl * col(u) ** 2 * secant3
+    t2 = t * t
+    cl = col(2.0 * cd0) / (t + np.sqrt(np.maximum(t2 - col(4.0 * k * cd0), 0.0)))
+    secant2 = 1.0 + t2
+    secant3 = secant2 * np.sqrt(secant2)  # 1 / cos^3 (a square root is cheaper than ** 1.5)
+    b = cl * secant3
+    b *= col(0.5 * rho * area * u ** 2)
     feasible = b <= col(b_max)
-    cost = np.where(feasible, (b / col(eta) + col(overhead)) * t, np.inf)
+    cost = b / col(eta)
+    cost += col(overhead)
+    cost *= t
+    cost[~feasible] = np.inf
     best = np.argmin(cost, axis=1)
     rows = np.arange(u.size)
     held = feasible[rows, best]
