@@ -467,9 +467,12 @@ def glide_trim(policy, commanded_angle, commanded_buoyancy, commanded_speed, den
          max_net_buoyancy, pump_efficiency, overhead_per_tan)))
     flat = flattest_glide_angle(cd0, k, cl_max) + _ANGLE_MARGIN
     gamma = np.array(np.maximum(gamma_cmd, flat), dtype=float)
-    b_speed, _ = net_buoyancy_for_speed(gamma, u_cmd, rho, area, cd0, k,
-                                        max_lift_coefficient=cl_max)
-    b = np.array(np.where(policy == FLY_HOLD_SPEED, b_speed, b_cmd), dtype=float)
+    b = np.array(b_cmd, dtype=float)
+    holds_speed = policy == FLY_HOLD_SPEED
+    if np.any(holds_speed):  # the speed-holding buoyancy only where a leg holds a speed
+        b_speed, _ = net_buoyancy_for_speed(gamma, u_cmd, rho, area, cd0, k,
+                                            max_lift_coefficient=cl_max)
+        b = np.array(np.where(holds_speed, b_speed, b_cmd), dtype=float)
     at_limit = np.zeros(gamma.shape, dtype=bool)
     efficient = policy == FLY_EFFICIENT
     if np.any(efficient):
