@@ -1,15 +1,18 @@
-"""Streaming benchmark: wall time and peak memory of uq.sampling.engine.stream at 1e6 / 1e7 (/ 1e8).
+"""Streaming benchmark: wall time and peak memory of uq.sampling.engine.stream over sizes.
 
 Run on demand (not a test):
 
-    python benchmarks/bench_streaming.py            # 1e6 and 1e7
-    python benchmarks/bench_streaming.py --big      # also 1e8 (a few minutes)
+    python benchmarks/bench_streaming.py --model under-ice --log2n 17 19 21 23
+    python benchmarks/bench_streaming.py            # toy model, 1e6 and 1e7
+    python benchmarks/bench_streaming.py --big      # toy model, also 1e8 (a few minutes)
     python benchmarks/bench_streaming.py --workers 2 --scheme sobol
 
 Each size runs in a fresh subprocess so its peak RSS (resource.getrusage ru_maxrss) is its
-own. A cheap 5-input toy model (not a transit model) is streamed through a CountReducer and
-a HistogramReducer; time should grow linearly in n (ratio ~10 per decade) and peak RSS
-should not grow with n.
+own. ``--model under-ice`` streams the bundled under-ice demo (the real transit model,
+configs/under_ice_section.toml, its inputs through the scenario's input model) through a
+count of successes, a sum of the margin and a histogram of the range; ``--model toy`` (the
+default) a cheap 5-input formula that is not a transit model, through a count and a
+histogram. Time should grow linearly in n and peak RSS should not grow with n.
 """
 
 from __future__ import annotations
@@ -29,7 +32,7 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from uq.sampling.engine import CountReducer, HistogramReducer, MultiReducer, stream  # noqa: E402
+from uq.sampling.engine import CountReducer, HistogramReducer, MultiReducer, SumReducer, stream  # noqa: E402
 from uq.sampling.inputs import InputModel, ScipyMarginal  # noqa: E402
 from uq.sampling.plans import SampleDesign  # noqa: E402
 from uq.estimators import histogram_exceedance_curve  # noqa: E402
@@ -62,9 +65,31 @@ def input_model():
     )
 
 
-def run_one(n: int, scheme: str, workers: int, chunk_blocks: int, repeat: int = 1) -> dict:
-    design = SampleDesign(scheme, n, 5, seed=20240601, block_size=2**16)
-    reducer = MultiReducer({"short": CountReducer("short"), "margin": HistogramReducer("margin", EDGES)})
+def _real_model():
+    """The under-ice demo: (model, input model, dimension, reducer)."""
+    import warnings
+
+    from uq.scenario import load_scenario
+    from uq.simulate import ScenarioModel
+    from uq.studies.assess import input_model_of
+
+    warnings.simplefilter("ignore")  # water below 0 degC: the viscosity fit's range caution
+    scenario = load_scenario(ROOT / "configs" / "under_ice_section.toml")
+    reducer = MultiReducer({"short": CountReducer("success"), "sum": SumReducer("margin_Wh"),
+                            "margin": HistogramReducer("range_km", np.linspace(0, 2000, 401))})
+    return ScenarioModel(scenario), input_model_of(scenario), len(scenario.inputs), reducer
+
+
+def run_one(n: int, scheme: str, workers: int, chunk_blocks: int, repeat: int = 1,
+            model_name: str = "toy") -> dict:
+    if model_name == "under-ice":
+        model, inputs, dimension, reducer = _real_model()
+        design = SampleDesign(scheme, n, dimension, seed=20240601)  # the engine's block size
+    else:
+        model, inputs, dimension = toy_model, input_model(), 5
+        design = SampleDesign(scheme, n, 5, seed=20240601, block_size=2**16)
+        reducer = MultiReducer({"short": CountReducer("short"),
+                                "margin": HistogramReducer("margin", EDGES)})
     rss_before = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     walls, cpus = [], []
     for _ in range(repeat):
@@ -73,10 +98,10 @@ def run_one(n: int, scheme: str, workers: int, chunk_blocks: int, repeat: int = 
             from concurrent.futures import ProcessPoolExecutor
 
             with ProcessPoolExecutor(workers) as pool:
-                result = stream(design, toy_model, reducer, input_model=input_model(),
+                result = stream(design, model, reducer, input_model=inputs,
                                 chunk_blocks=chunk_blocks, executor=pool)
         else:
-            result = stream(design, toy_model, reducer, input_model=input_model(),
+            result = stream(design, model, reducer, input_model=inputs,
                             chunk_blocks=chunk_blocks)
         walls.append(time.perf_counter() - t0)
         cpus.append(time.process_time() - c0)
@@ -85,6 +110,7 @@ def run_one(n: int, scheme: str, workers: int, chunk_blocks: int, repeat: int = 
     usage_children = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
     curve = histogram_exceedance_curve(result["margin"])
     return {
+        "model": model_name,
         "n": n,
         "scheme": scheme,
         "workers": workers,
@@ -105,30 +131,39 @@ def main(argv=None) -> int:
     parser.add_argument("--workers", type=int, default=1)
     parser.add_argument("--chunk-blocks", type=int, default=4)
     parser.add_argument("--repeat", type=int, default=3, help="best of this many runs per size")
+    parser.add_argument("--model", choices=["toy", "under-ice"], default="toy",
+                        help="toy formula (default) or the bundled under-ice transit model")
+    parser.add_argument("--log2n", type=int, nargs="+", help="sizes as powers of two")
     parser.add_argument("--single", type=int, help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
 
     if args.single:
-        print(json.dumps(run_one(args.single, args.scheme, args.workers, args.chunk_blocks, args.repeat)))
+        print(json.dumps(run_one(args.single, args.scheme, args.workers, args.chunk_blocks,
+                                 args.repeat, args.model)))
         return 0
 
     sizes = [10**6, 10**7] + ([10**8] if args.big else [])
-    if args.scheme == "sobol":
+    if args.log2n:
+        sizes = [1 << k for k in args.log2n]
+    elif args.scheme == "sobol":
         sizes = [1 << (s.bit_length() - 1) for s in sizes]  # nearest power of two below
     rows = []
     for n in sizes:
         out = subprocess.run(
             [sys.executable, __file__, "--single", str(n), "--scheme", args.scheme,
              "--workers", str(args.workers), "--chunk-blocks", str(args.chunk_blocks),
-             "--repeat", str(1 if n >= 10**8 else args.repeat)],
+             "--repeat", str(1 if n >= 10**8 else args.repeat), "--model", args.model],
             check=True, capture_output=True, text=True,
         )
         rows.append(json.loads(out.stdout.strip().splitlines()[-1]))
+    print(f"model: {args.model} ({'configs/under_ice_section.toml, real transit model' if args.model == 'under-ice' else 'a 5-input formula, not a transit model'}), scheme {args.scheme}, workers {args.workers}")
     print(f"{'n':>12} {'wall s':>8} {'cpu s':>8} {'peak RSS MiB':>13} {'worker RSS MiB':>15} "
           f"{'P(short)':>9}")
     for r in rows:
         print(f"{r['n']:>12} {r['seconds']:>8.2f} {r['cpu_seconds']:>8.2f} {r['peak_rss_mib']:>13.1f} "
               f"{r['peak_rss_worker_mib']:>15.1f} {r['p_short']:>9.5f}")
+    print(f"peak RSS growth {rows[0]['n']:.2e} -> {rows[-1]['n']:.2e}: "
+          f"{100 * (rows[-1]['peak_rss_mib'] / rows[0]['peak_rss_mib'] - 1):+.1f} %")
     for a, b in zip(rows[:-1], rows[1:]):
         print(f"t({b['n']:.0e}) / t({a['n']:.0e}) = {b['seconds'] / a['seconds']:.2f} wall, "
               f"{b['cpu_seconds'] / a['cpu_seconds']:.2f} cpu (n ratio {b['n'] / a['n']:.0f})")

@@ -467,9 +467,12 @@ def glide_trim(policy, commanded_angle, commanded_buoyancy, commanded_speed, den
          max_net_buoyancy, pump_efficiency, overhead_per_tan)))
     flat = flattest_glide_angle(cd0, k, cl_max) + _ANGLE_MARGIN
     gamma = np.array(np.maximum(gamma_cmd, flat), dtype=float)
-    b_speed, _ = net_buoyancy_for_speed(gamma, u_cmd, rho, area, cd0, k,
-                                        max_lift_coefficient=cl_max)
-    b = np.array(np.where(policy == FLY_HOLD_SPEED, b_speed, b_cmd), dtype=float)
+    b = np.array(b_cmd, dtype=float)
+    holds_speed = policy == FLY_HOLD_SPEED
+    if np.any(holds_speed):  # the speed-holding buoyancy only where a leg holds a speed
+        b_speed, _ = net_buoyancy_for_speed(gamma, u_cmd, rho, area, cd0, k,
+                                            max_lift_coefficient=cl_max)
+        b = np.array(np.where(holds_speed, b_speed, b_cmd), dtype=float)
     at_limit = np.zeros(gamma.shape, dtype=bool)
     efficient = policy == FLY_EFFICIENT
     if np.any(efficient):
@@ -507,12 +510,17 @@ def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
     """
     col = (lambda a: a[:, None])
     t = np.tan(col(flat)) * _TAU[None, :]
-    disc = np.maximum(t * t - 4.0 * col(k) * col(cd0), 0.0)
-    cl = 2.0 * col(cd0) / (t + np.sqrt(disc))
-    secant3 = (1.0 + t * t) ** 1.5  # 1 / cos^3
-    b = 0.5 * col(rho) * col(area) * cl * col(u) ** 2 * secant3
+    t2 = t * t
+    cl = col(2.0 * cd0) / (t + np.sqrt(np.maximum(t2 - col(4.0 * k * cd0), 0.0)))
+    secant2 = 1.0 + t2
+    secant3 = secant2 * np.sqrt(secant2)  # 1 / cos^3 (a square root is cheaper than ** 1.5)
+    b = cl * secant3
+    b *= col(0.5 * rho * area * u ** 2)
     feasible = b <= col(b_max)
-    cost = np.where(feasible, (b / col(eta) + col(overhead)) * t, np.inf)
+    cost = b / col(eta)
+    cost += col(overhead)
+    cost *= t
+    cost[~feasible] = np.inf
     best = np.argmin(cost, axis=1)
     rows = np.arange(u.size)
     held = feasible[rows, best]

@@ -25,7 +25,7 @@ propeller vehicle) by (1 + Delta_D phi); the glider's induced drag grows through
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import NamedTuple, Protocol
 
 import numpy as np
@@ -178,6 +178,8 @@ class GliderRates:
     surface_power: np.ndarray | float = 0.0
     surface_drift_along: np.ndarray | float = 0.0
     surface_drift_across: np.ndarray | float = 0.0
+    # the clean vehicle's trim on each leg (it does not depend on fouling): computed once
+    _clean_trim: dict = field(default_factory=dict, init=False, repr=False, compare=False)
 
     def __call__(self, leg: int, phi: np.ndarray) -> VehicleRates:
         cd0 = self.zero_lift_drag * _drag.fouling_drag_multiplier(phi, self.drag_increase)
@@ -201,7 +203,10 @@ class GliderRates:
                 overhead_per_tan=overhead / (2.0 * np.where(band > 0, band, 1.0)))
 
         trim = trim_with(cd0, k)
-        clean = trim_with(self.zero_lift_drag, self.induced_drag_factor)
+        clean = self._clean_trim.get(leg)
+        if clean is None:
+            clean = self._clean_trim[leg] = trim_with(self.zero_lift_drag,
+                                                      self.induced_drag_factor)
         cycle = _engine.dive_cycle(
             trim.horizontal_speed, trim.vertical_speed, trim.net_buoyancy, top, bottom,
             self.pump_efficiency, hotel,

@@ -26,7 +26,7 @@ import numpy as np
 
 from physics import currents as _currents
 from physics import reliability as _reliability
-from physics.mission import BatteryState, RateModel, TransitOutcome
+from physics.mission import BatteryState, PropellerRates, RateModel, TransitOutcome
 from physics.states import FailureMode
 
 __all__ = [
@@ -146,6 +146,9 @@ def arrival_demand(loiter_power, loiter_time, homing_power, homing_speed, homing
 def _return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across, path, charge,
                   min_ground_speed):
     """Energy [J] and time [s] to fly back from every profile column to its last safe exit."""
+    if isinstance(rates, PropellerRates):
+        return _propeller_return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across,
+                                       path, charge, min_ground_speed)
     x = profile.position
     n, n_cols = x.shape
     e_back = np.zeros((n, n_cols))
@@ -159,7 +162,8 @@ def _return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across, path,
             overlap = np.clip(np.minimum(x[:, k], bounds[:, i + 1]) - np.maximum(start, bounds[:, i]),
                               0.0, None)
             r = rates(i, profile.fouling[:, k])
-            track = _currents.ground_track(r.speed_through_water, -c_along[:, i], c_across[:, i])
+            track = _currents.track_made_good(r.speed_through_water, -c_along[:, i],
+                                              c_across[:, i], _currents.CRAB)
             fine = (r.state == FailureMode.NONE) & track.headway \
                 & (track.ground_speed > min_ground_speed)
             per_metre = path[:, i] / np.where(fine, track.ground_speed, 1.0)
@@ -167,6 +171,34 @@ def _return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across, path,
             t_back[:, k] = np.where(blocked, np.inf, t_back[:, k] + overlap * per_metre)
             e_back[:, k] = np.where(blocked, np.inf, e_back[:, k]
                                     + overlap * per_metre * r.power / charge[:, i])
+    return e_back, t_back
+
+
+def _propeller_return_costs(rates, profile, bounds, ice, exit_of, c_along, c_across, path,
+                            charge, min_ground_speed):
+    """:func:`_return_costs` of a propeller vehicle, leg by leg over all columns at once: its
+    speed does not foul, so only the power P_0 + P_1 phi changes from column to column."""
+    x = profile.position
+    e_back = np.zeros(x.shape)
+    t_back = np.zeros(x.shape)
+    col_leg = np.asarray(profile.leg)
+    for i in range(bounds.shape[1] - 1):
+        cols = np.flatnonzero(ice[col_leg] & (exit_of[col_leg] <= i) & (col_leg >= i))
+        if not cols.size:
+            continue
+        start = bounds[:, exit_of[col_leg[cols]]]
+        overlap = np.clip(np.minimum(x[:, cols], bounds[:, i + 1, None])
+                          - np.maximum(start, bounds[:, i, None]), 0.0, None)
+        clean, fouled, speed = rates.power_terms(i)
+        track = _currents.track_made_good(np.broadcast_to(speed, clean.shape), -c_along[:, i],
+                                          c_across[:, i], _currents.CRAB)
+        fine = (track.headway & (track.ground_speed > min_ground_speed))[:, None]
+        per_metre = (path[:, i] / np.where(fine[:, 0], track.ground_speed, 1.0))[:, None]
+        power = clean[:, None] + fouled[:, None] * np.clip(profile.fouling[:, cols], 0.0, 1.0)
+        blocked = ~fine & (overlap > 0.0)
+        t_back[:, cols] = np.where(blocked, np.inf, t_back[:, cols] + overlap * per_metre)
+        e_back[:, cols] = np.where(blocked, np.inf, e_back[:, cols]
+                                   + overlap * per_metre * power / charge[:, i, None])
     return e_back, t_back
 
 

@@ -67,3 +67,32 @@ def test_broadcast_shapes_agree():
     for i, e in enumerate(ends):
         for j, t in enumerate(taus):
             assert grid[i, j] == fouling.fouling_state_integral(0.0, e, 5 * DAY, t)
+
+
+@pytest.mark.parametrize(
+    ("start", "end", "onset", "tau"),
+    [
+        (0.0, 90 * DAY, 20 * DAY, 40 * DAY),  # straddles the onset
+        (30 * DAY, 50 * DAY, 20 * DAY, 40 * DAY),  # entirely after the onset
+        (0.0, 10 * DAY, 20 * DAY, 40 * DAY),  # entirely before: zero
+        (0.0, 90 * DAY, 0.0, 1e4 * DAY),  # tau >> interval
+        (5 * DAY, 8 * DAY, 2 * DAY, 0.0),  # a step at the onset
+        (5 * DAY, 8 * DAY, 2 * DAY, np.inf),  # no fouling
+    ],
+)
+def test_growth_gives_the_integral_and_the_state_at_the_end(start, end, onset, tau):
+    # Reference: scipy.integrate.quad for the integral (as above) and the closed form
+    # phi(c_1) = 1 - exp(-(c_1 - c_on)/tau) past the onset (derived from the growth law),
+    # written out here with math; 1e-12: the state is one subtraction of exponentials
+    integral, state = fouling.fouling_growth(start, end, onset, tau)
+    if tau > 0 and math.isfinite(tau):
+        expected, _ = quad(lambda c: max(0.0, 1.0 - math.exp(-(c - onset) / tau)), start, end,
+                           points=[onset] if start < onset < end else None, epsabs=1e-10,
+                           epsrel=1e-12, limit=200)
+        expected_state = 1.0 - math.exp(-(end - onset) / tau) if end > onset else 0.0
+    elif tau == 0.0:
+        expected, expected_state = max(end, onset) - max(start, onset), float(end > onset)
+    else:
+        expected, expected_state = 0.0, 0.0
+    assert integral == pytest.approx(expected, rel=1e-9, abs=1e-6)
+    assert state == pytest.approx(expected_state, rel=1e-12, abs=1e-15)
