@@ -26,6 +26,7 @@ from uq.report.pages import render_page
 from uq.report.summary import build_summary, nominal_dict, run_cautions
 from uq.report.exports import write_sample_exports
 from uq.simulate import glide_operating_point
+from uq.studies.rare import when_it_runs
 
 __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write_report",
            "CAUTIONS", "MODEL_ASSUMPTIONS", "SECTION_IDS"]
@@ -34,7 +35,7 @@ __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write
 #: they apply)
 SECTION_IDS = ("verdict", "range-curve", "failures", "sensitivity", "tests", "contingency",
                "sweep", "comparison", "glide-polar", "inputs", "surrogate", "baseline",
-               "assumptions", "cautions", "run-record")
+               "estimators", "assumptions", "cautions", "run-record")
 
 CAUTIONS = (
     "This report is a planning aid, not a guarantee: the probabilities are only as good as "
@@ -287,7 +288,7 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         pinned=a.pinned, margin_vs=margin_vs,
         scale=_verdict_scale(a.propagation.p_success, sc.decision.required_probability),
         cautions=CAUTIONS, run_cautions=run_cautions(a), assumptions=MODEL_ASSUMPTIONS,
-        timings=timings,
+        timings=timings, rare_event_rule=when_it_runs(),
         total_time=sum(timings.values()),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
         censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),
