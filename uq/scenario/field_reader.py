@@ -20,6 +20,7 @@ import numpy as np
 from uq.scenario import envelope as _envelope
 from uq.scenario.distributions import Marginal, parse_distribution, unit_from_key
 from uq.scenario.errors import MISSING, ScenarioError
+from uq.scenario.field_table import section
 from uq.scenario.fields import INF, Range, fmt_bound, is_number, join_key
 
 __all__ = ["FieldReader"]
@@ -62,6 +63,12 @@ class FieldReader:
             if key not in out:
                 self.fail(join_key(path, key), MISSING, f"a value for required key '{key}' in [{path}]")
         return out
+
+    def read_section(self, table: Mapping[str, Any], name: str) -> dict[str, Any]:
+        """:meth:`read_fields` with the keys of section ``name`` from the field table
+        (:mod:`uq.scenario.field_table`); the section name is also the key path."""
+        keys = section(name, self.kind)
+        return self.read_fields(table, name, keys.fields, keys.required, other_kind=keys.other_kind or None)
 
     def unknown(self, key: str, value: Any, path: str, known: list[str], *,
                 other_kind: Mapping[str, str] | None = None):

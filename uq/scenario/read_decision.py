@@ -9,11 +9,9 @@ from typing import Any
 import numpy as np
 
 from uq.scenario.field_reader import FieldReader
+from uq.scenario.field_table import section
 from uq.scenario.errors import MISSING
-from uq.scenario.fields import (
-    CORRELATION, CURRENCY_CODE, FRACTION_CLOSED0_OPEN1, HAZARD, MONEY, PROBABILITY, SCHEMES,
-    SHIP_BOOKINGS, SHIP_DAYS, WEIBULL_SHAPE, is_number,
-)
+from uq.scenario.fields import CURRENCY_CODE, is_number
 from uq.scenario.types import Analysis, Decision, Hardware, RankCorrelation, Subsystem, TestCandidate
 
 __all__ = ["DecisionSections"]
@@ -24,37 +22,28 @@ class DecisionSections(FieldReader):
 
     def hardware(self, value: Any) -> Hardware:
         table = self.table(value, "hardware")
-        fields = {"subsystems": lambda r, v, p: r.subsystems(v, p)}
-        return Hardware(**self.read_fields(table, "hardware", fields))
+        return Hardware(**self.read_section(table, "hardware"))
 
     def subsystems(self, value: Any, path: str) -> tuple[Subsystem, ...]:
         if not isinstance(value, (list, tuple)):
             self.fail(path, value, "an array of tables [[hardware.subsystems]]")
-        fields = {
-            "name": lambda r, v, p: r.text(v, p, what="the subsystem's name"),
-            "rate_per_day": lambda r, v, p: r.number(v, p, HAZARD, uncertain=False),
-            "weibull_shape": lambda r, v, p: r.number(v, p, WEIBULL_SHAPE, uncertain=False),
-        }
+        keys = section("hardware.subsystems")
         out = []
         for i, item in enumerate(value):
             item_path = f"{path}[{i}]"
             table = self.table(item, item_path, how="a [[hardware.subsystems]] table")
-            out.append(Subsystem(**self.read_fields(table, item_path, fields,
-                                                    ("name", "rate_per_day"))))
+            out.append(Subsystem(**self.read_fields(table, item_path, keys.fields, keys.required)))
         return tuple(out)
 
     def correlations_raw(self, value: Any) -> list[tuple[int, tuple[str, str], float]]:
         if not isinstance(value, (list, tuple)):
             self.fail("correlations", value, "an array of tables [[correlations]]")
-        fields = {
-            "inputs": lambda r, v, p: r.name_list(v, p, length=2),
-            "rank": lambda r, v, p: r.number(v, p, CORRELATION, uncertain=False),
-        }
+        keys = section("correlations")
         out = []
         for i, item in enumerate(value):
             path = f"correlations[{i}]"
             table = self.table(item, path, how="a [[correlations]] table")
-            got = self.read_fields(table, path, fields, ("inputs", "rank"))
+            got = self.read_fields(table, path, keys.fields, keys.required)
             out.append((i, got["inputs"], got["rank"]))
         return out
 
@@ -87,30 +76,12 @@ class DecisionSections(FieldReader):
                           f"(smallest eigenvalue {smallest:.3g}); weaken or drop a correlation")
         return tuple(RankCorrelation(inputs=pair, coefficient=r) for _, pair, r in raw)
 
+    def input_pair(self, value: Any, path: str) -> tuple[str, str]:
+        return self.name_list(value, path, length=2)
+
     def decision(self, value: Any) -> Decision:
         table = self.table(value, "decision")
-        plain = lambda rng: (lambda r, v, p: r.number(v, p, rng, uncertain=False))  # noqa: E731
-        fields = {
-            "required_probability": plain(PROBABILITY),
-            "confidence": plain(PROBABILITY),
-            "currency": lambda r, v, p: r.currency(v, p),
-            "ship_day_rate": plain(MONEY),
-            "booking_quantile": plain(PROBABILITY),
-            "value_of_success": plain(MONEY),
-            "cost_of_failure": plain(MONEY),
-            "cost_of_no_go": plain(MONEY),
-            "tests": lambda r, v, p: r.tests(v, p),
-            "ship_booking": lambda r, v, p: r.choice(v, p, SHIP_BOOKINGS, what="how the ship is booked"),
-            "deployment_date": lambda r, v, p: r.date(v, p),
-            "recovery_window": lambda r, v, p: r.quantile_pair(v, p),
-            "ship_transit_days": plain(SHIP_DAYS),
-            "cost_of_reserve_breach": plain(MONEY),
-            "cost_of_late_arrival": plain(MONEY),
-            "knowledge": lambda r, v, p: r.name_list(v, p),
-            "variability": lambda r, v, p: r.name_list(v, p),
-            "required_credibility": plain(PROBABILITY),
-        }
-        out = self.read_fields(table, "decision", fields)
+        out = self.read_section(table, "decision")
         if out.get("ship_booking") == "recovery_window" and "deployment_date" not in out:
             self.fail("decision.deployment_date", MISSING,
                       "a deployment date (e.g. 2027-04-12) for ship_booking = 'recovery_window'")
@@ -137,18 +108,13 @@ class DecisionSections(FieldReader):
     def tests(self, value: Any, path: str) -> tuple[TestCandidate, ...]:
         if not isinstance(value, (list, tuple)):
             self.fail(path, value, "an array of tables [[decision.tests]]")
-        fields = {
-            "name": lambda r, v, p: r.text(v, p, what="the test's name"),
-            "cost": lambda r, v, p: r.number(v, p, MONEY, uncertain=False),
-            "inputs": lambda r, v, p: r.name_list(v, p),
-            "residual_fraction": lambda r, v, p: r.number(v, p, FRACTION_CLOSED0_OPEN1, uncertain=False),
-        }
+        keys = section("decision.tests")
         seen: dict[str, int] = {}
         out = []
         for i, item in enumerate(value):
             item_path = f"{path}[{i}]"
             table = self.table(item, item_path, how="a [[decision.tests]] table")
-            got = self.read_fields(table, item_path, fields, ("name", "cost", "inputs"))
+            got = self.read_fields(table, item_path, keys.fields, keys.required)
             if got["name"] in seen:
                 self.fail(f"{item_path}.name", got["name"],
                           f"a unique test name ({path}[{seen[got['name']]}] has it already)")
@@ -158,17 +124,7 @@ class DecisionSections(FieldReader):
 
     def analysis(self, value: Any) -> Analysis:
         table = self.table(value, "analysis")
-        fields = {
-            "samples": lambda r, v, p: r.integer(v, p, minimum=1, what="number of samples"),
-            "seed": lambda r, v, p: r.integer(v, p, minimum=0, what="random seed"),
-            "scheme": lambda r, v, p: r.choice(v, p, SCHEMES, what="the sampling scheme"),
-            "replicates": lambda r, v, p: r.integer(v, p, minimum=1, what="independent replicates"),
-            "sensitivity_base_n": lambda r, v, p: r.integer(v, p, minimum=2, what="Sobol' base sample size"),
-            "rare_events": lambda r, v, p: r.choice(v, p, ("auto", "always", "off"),
-                                                    what="when to use the rare-event estimator"),
-            "max_looks": lambda r, v, p: r.integer(v, p, minimum=1, what="looks at P(success)"),
-        }
-        out = self.read_fields(table, "analysis", fields)
+        out = self.read_section(table, "analysis")
         result = Analysis(**out)
         if result.scheme == "sobol" and not _power_of_two(result.samples):
             self.fail("analysis.samples", result.samples,

@@ -10,11 +10,8 @@ from typing import Any
 from uq.scenario.distributions import Marginal
 from uq.scenario.errors import MISSING
 from uq.scenario.field_reader import FieldReader
-from uq.scenario.fields import (
-    CURRENT, CURRENT_POLICIES, DIVES, DUTY, FLIGHT_POLICIES, GROWTH, LEG_KEYS, LEG_NAME,
-    NONNEG_DEPTH, NONNEG_H, NONNEG_KM, NONNEG_W, OVERHEAD, POSITIVE_DEPTH, POSITIVE_KM,
-    POSITIVE_SPEED, SALINITY, TEMPERATURE, UNDER_ICE_POLICIES,
-)
+from uq.scenario.field_table import section
+from uq.scenario.fields import LEG_KEYS, LEG_NAME
 from uq.scenario.types import GliderSetpoint, Leg, PropellerSetpoint, Recovery, UnderIce
 
 __all__ = ["RouteSections"]
@@ -28,27 +25,7 @@ class RouteSections(FieldReader):
             self.fail("legs", value, "an array of tables [[legs]]")
         if not value:
             self.fail("legs", value, "at least one [[legs]] table (the route is empty)")
-        fields = {
-            "length_km": lambda r, v, p: r.number(v, p, POSITIVE_KM),
-            "current_along_m_s": lambda r, v, p: r.number(v, p, CURRENT),
-            "current_across_m_s": lambda r, v, p: r.number(v, p, CURRENT),
-            "temperature_C": lambda r, v, p: r.number(v, p, TEMPERATURE),
-            "practical_salinity": lambda r, v, p: r.number(v, p, SALINITY),
-            "ice_ceiling_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
-            "seabed_m": lambda r, v, p: r.number(v, p, POSITIVE_DEPTH),
-            "fouling_growth_factor": lambda r, v, p: r.number(v, p, GROWTH),
-            "hotel_load_W": lambda r, v, p: r.number(v, p, NONNEG_W),
-            "current_policy": lambda r, v, p: r.choice(v, p, CURRENT_POLICIES, what="the current policy"),
-            "surface_current_along_m_s": lambda r, v, p: r.number(v, p, CURRENT),
-            "surface_current_across_m_s": lambda r, v, p: r.number(v, p, CURRENT),
-            "surface_layer_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
-            "flight_policy": lambda r, v, p: r.choice(v, p, FLIGHT_POLICIES, what="the flight policy"),
-            "dives_per_surfacing": lambda r, v, p: r.number(v, p, DIVES),
-            "payload_power_W": lambda r, v, p: r.number(v, p, NONNEG_W),
-            "payload_duty_cycle": lambda r, v, p: r.number(v, p, DUTY),
-            "speed_m_s": lambda r, v, p: r.number(v, p, POSITIVE_SPEED),
-            "depth_m": lambda r, v, p: r.number(v, p, NONNEG_DEPTH),
-        }
+        keys = section("legs")
         seen: dict[str, int] = {}
         legs = []
         for i, item in enumerate(value):
@@ -62,7 +39,7 @@ class RouteSections(FieldReader):
                 self.fail(f"legs[{i}].name", name, f"a unique leg name (legs[{seen[name]}] is already {name!r})")
             seen[name] = i
             path = f"legs.{name}"
-            out = self.read_fields(table, path, {"name": lambda r, v, p: v, **fields}, ("length_km",))
+            out = self.read_fields(table, path, keys.fields, keys.required)
             leg = Leg(**out)
             self.leg_water(leg, table, path)
             self.below(leg.ice_ceiling_m, f"{path}.ice_ceiling_m", leg.seabed_m, f"{path}.seabed_m",
@@ -119,22 +96,15 @@ class RouteSections(FieldReader):
 
     def recovery(self, value: Any) -> Recovery:
         table = self.table(value, "recovery")
-        fields = {
-            "loiter_time_h": lambda r, v, p: r.number(v, p, NONNEG_H),
-            "loiter_power_W": lambda r, v, p: r.number(v, p, NONNEG_W),
-            "homing_distance_km": lambda r, v, p: r.number(v, p, NONNEG_KM),
-        }
-        return Recovery(**self.read_fields(table, "recovery", fields))
+        return Recovery(**self.read_section(table, "recovery"))
 
     def under_ice(self, value: Any) -> UnderIce:
         table = self.table(value, "under_ice")
-        fields = {
-            "policy": lambda r, v, p: r.choice(v, p, UNDER_ICE_POLICIES,
-                                               what="what to do at the point of no return"),
-            "safe_exits_after": lambda r, v, p: r.leg_names(v, p),
-            "dead_reckoning_overhead": lambda r, v, p: r.number(v, p, OVERHEAD),
-        }
-        return UnderIce(**self.read_fields(table, "under_ice", fields))
+        return UnderIce(**self.read_section(table, "under_ice"))
+
+    def leg_name(self, value: Any, path: str) -> str:
+        """A leg's name, already checked by :meth:`legs` (letters, digits, _ and -; unique)."""
+        return value
 
     def leg_names(self, value: Any, path: str) -> tuple[str, ...]:
         if not isinstance(value, (list, tuple)) or not all(isinstance(v, str) for v in value):

@@ -34,6 +34,7 @@ from dataclasses import replace
 from typing import Any
 
 from uq.scenario.errors import MISSING, ScenarioError
+from uq.scenario.field_table import SECTIONS
 from uq.scenario.fields import VEHICLE_KINDS
 from uq.scenario.read_decision import DecisionSections
 from uq.scenario.read_route import RouteSections
@@ -119,9 +120,7 @@ class _Reader(VehicleSections, RouteSections, DecisionSections):
     """One pass over a parsed TOML document; raises the first problem found."""
 
     # ------------------------------------------------------------------ document
-    _SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "fouling", "limits", "legs",
-                 "route", "environment", "correlations", "recovery", "under_ice", "hardware",
-                 "decision", "analysis")
+    _SECTIONS = SECTIONS  # every section, from the field table
     _REQUIRED_SECTIONS = ("scenario", "vehicle", "battery", "setpoint", "legs")
 
     def scenario(self, doc: Mapping[str, Any]) -> Scenario:
