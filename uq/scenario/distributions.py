@@ -71,6 +71,9 @@ _TRUNCATION_REACH_SD = 6.0
 #: incomplete beta function of scipy before 1.17 never returns (measured on 1.13-1.16).
 _MAX_SHAPE = 1e6
 
+#: Marks a fast quantile function not built yet (see Marginal.ppf).
+_UNBUILT = object()
+
 # Key suffix -> unit; longest suffixes first so "_m_s" wins over "_s" and "_m".
 _UNIT_SUFFIXES = (
     ("_per_day", "1/day"),
@@ -214,7 +217,7 @@ class Marginal:
         object.__setattr__(self, "params", params)
         full = _with_defaults(self.kind, params)
         object.__setattr__(self, "_frozen", _build_scipy(self.kind, full))
-        object.__setattr__(self, "_fast_ppf", _fast_quantile(self.kind, full))
+        object.__setattr__(self, "_fast_ppf", _UNBUILT)  # built on first use (see ppf)
 
     def __reduce__(self):
         # pickle what the planner wrote, not the scipy object and tables built from it: a
@@ -236,8 +239,12 @@ class Marginal:
             Quantiles, same shape as ``u`` [unit of the field].
         """
         u = np.asarray(u, dtype=float)
-        if self._fast_ppf is not None:
-            return self._fast_ppf(u)
+        fast = self._fast_ppf
+        if fast is _UNBUILT:  # the table costs a few ms; a marginal only read never needs it
+            fast = _fast_quantile(self.kind, _with_defaults(self.kind, self.params))
+            object.__setattr__(self, "_fast_ppf", fast)
+        if fast is not None:
+            return fast(u)
         return np.asarray(self._frozen.ppf(u), dtype=float)
 
     def cdf(self, x: Any) -> np.ndarray:
