@@ -51,8 +51,17 @@ ROOT = HERE.parents[2]
 RUNNER = r'''
 import json, os, resource, signal, sys, time, traceback, runpy
 os.environ.setdefault("OMP_NUM_THREADS", "1")
-import uq.cli.main  # noqa: F401  (imported once; every child starts warm)
-timeout, mem_extra = float(sys.argv[1]), int(sys.argv[2])
+import contextlib, importlib, io
+cli = importlib.import_module("uq.cli.main")  # imported once; every child starts warm
+timeout, mem_extra, warm = float(sys.argv[1]), int(sys.argv[2]), sys.argv[3]
+# a good check and a refused study in the runner import what the commands import lazily
+# (scipy.stats, the study reader, ...), so a child does only its own case's work
+for argv in (["check", warm], ["study", warm, "--quiet"]):
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        try:
+            cli.main(argv)
+        except BaseException:
+            pass
 
 def vm_size():
     with open("/proc/self/status") as fh:
@@ -139,11 +148,12 @@ def _prepare(module, folder: Path, only: str | None, demos: Path | None):
     return cases, jobs
 
 
-def _run_forked(jobs, code: Path | None, timeout: float, mem_extra: int) -> dict[str, dict]:
+def _run_forked(jobs, code: Path | None, timeout: float, mem_extra: int,
+                warm: Path) -> dict[str, dict]:
     env = dict(os.environ, OMP_NUM_THREADS="1")
     if code is not None:
         env["PYTHONPATH"] = os.pathsep.join([str(code), env.get("PYTHONPATH", "")]).rstrip(os.pathsep)
-    proc = subprocess.Popen([sys.executable, "-c", RUNNER, str(timeout), str(mem_extra)],
+    proc = subprocess.Popen([sys.executable, "-c", RUNNER, str(timeout), str(mem_extra), str(warm)],
                             stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True, env=env)
     out, _ = proc.communicate("".join(json.dumps(j) + "\n" for j in jobs))
     if proc.returncode != 0:
@@ -215,7 +225,8 @@ def main(argv=None) -> int:
         folder = Path(tmp)
         cases, jobs = _prepare(module, folder, args.only, args.demos)
         results = (_run_fresh(jobs, args.code, args.timeout) if args.fresh else
-                   _run_forked(jobs, args.code, args.timeout, args.memory_mb * 1024 * 1024))
+                   _run_forked(jobs, args.code, args.timeout, args.memory_mb * 1024 * 1024,
+                               folder / "base.toml"))
         rows = []
         for case, job in zip(cases, jobs):
             r = results[case.id]
