@@ -222,8 +222,8 @@ FIELDS: tuple[Field, ...] = (
     # ------------------------------------------------------------------ legs
     _f("legs", "name", Method("leg_name", "letters, digits, `_` and `-`; unique"), "the leg's name; names its inputs (`legs.<name>.<key>`)", required=BOTH),
     _f("legs", "length_km", Number(POSITIVE_KM), "length of the leg over ground [km]", required=BOTH),
-    _f("legs", "current_along_m_s", Number(CURRENT), "depth-mean current along the track, + following [m/s]"),
-    _f("legs", "current_across_m_s", Number(CURRENT), "current across the track [m/s]"),
+    _f("legs", "current_along_m_s", Number(CURRENT), "current along the track at the running depth (below `surface_layer_m` where one is given), + following [m/s]"),
+    _f("legs", "current_across_m_s", Number(CURRENT), "current across the track, likewise [m/s]"),
     _f("legs", "temperature_C", Number(TEMPERATURE), "in-situ water temperature [degC]; required under ice, else 10 with a caution"),
     _f("legs", "practical_salinity", Number(SALINITY), "practical salinity (PSS-78); absent: 35 with a caution"),
     _f("legs", "ice_ceiling_m", Number(NONNEG_DEPTH), "shallowest allowed depth under ice (keel plus clearance) [m]; 0: open water"),
