@@ -35,7 +35,7 @@ from pathlib import Path
 from typing import Sequence
 
 from uq.cli.console import PROG, Console, one_line
-from uq.scenario.demos import DEMOS, demo_path, demo_text
+from uq.scenario.demos import DEMOS, STARTERS, STUDY_STARTER_BASE, demo_path, starter_text
 
 __all__ = ["main", "build_parser", "DEMOS"]
 
@@ -177,11 +177,13 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("starter", parents=[output],
                        help="write a commented starter scenario to edit",
-                       description="Write a starter scenario (a commented copy of a bundled "
-                                   "demo) to PATH.")
+                       description="Write a clean, commented starter scenario (or study file) "
+                                   "to PATH; a study starter comes with its base scenario "
+                                   "beside it (PATH's name + _scenario.toml).")
     p.add_argument("path", metavar="PATH", help="file to write (.toml)")
-    p.add_argument("--kind", choices=sorted(DEMOS), default="propeller",
-                   help="vehicle kind of the starter (default propeller)")
+    p.add_argument("--kind", choices=list(STARTERS), default="propeller",
+                   help="propeller (drag from hull geometry), propeller-drag (a known C_D), "
+                        "glider, or study (default propeller)")
     p.add_argument("--overwrite", action="store_true", help="replace an existing file")
     p.set_defaults(func=_cmd_starter)
 
@@ -390,7 +392,28 @@ def _cmd_compare(args, console: Console) -> int:
 
 def _cmd_starter(args, console: Console) -> int:
     target = Path(args.path)
-    if (target.exists() or target.is_symlink()) and not args.overwrite:
+    _check_starter_target(target, args.overwrite)
+    files = {target: starter_text(args.kind)}
+    if args.kind == "study":  # the base scenario the study names, beside it
+        base = target.with_name(f"{target.stem}_scenario.toml")
+        _check_starter_target(base, args.overwrite)
+        files[target] = files[target].replace(f'scenario = "{STUDY_STARTER_BASE}"',
+                                              f'scenario = "{base.name}"', 1)
+        files[base] = starter_text("propeller")
+    for path, text in files.items():
+        stem = re.sub(r"[^A-Za-z0-9_-]+", "-", path.stem).strip("-") or "my-mission"
+        text = re.sub(r'(\[(?:scenario|study)\]\s*\nname\s*=\s*)"[^"\n]*"',
+                      lambda m: f'{m.group(1)}"{stem}"', text, count=1)
+        _write_starter(path, text)
+    then = f"{PROG} study {target}" if args.kind == "study" else f"{PROG} check {target}"
+    console.result(f"Wrote {', '.join(str(p) for p in files)} ({args.kind} starter). "
+                   f"Edit it, then: {then}")
+    return 0
+
+
+def _check_starter_target(target: Path, overwrite: bool) -> None:
+    """Refuse to replace a file without --overwrite, and anything but a .toml file ever."""
+    if (target.exists() or target.is_symlink()) and not overwrite:
         raise FileExistsError(f"{str(target)!r} already exists; pass --overwrite to replace it")
     if target.is_dir():
         raise IsADirectoryError(f"{str(target)!r} is a folder; expected a file name such as "
@@ -399,23 +422,15 @@ def _cmd_starter(args, console: Console) -> int:
             target.suffix.lower() != ".toml" or target.is_symlink() or not target.is_file()):
         raise FileExistsError(f"{str(target)!r} exists and is not a .toml scenario file: "
                               "transit-risk never replaces it (not even with --overwrite)")
-    demo = DEMOS[args.kind]
-    text = demo_text(demo)
-    stem = re.sub(r"[^A-Za-z0-9_-]+", "-", target.stem).strip("-") or "my-mission"
-    text = re.sub(r'(\[scenario\]\s*\nname\s*=\s*)"[^"\n]*"', lambda m: f'{m.group(1)}"{stem}"',
-                  text, count=1)
-    header = (
-        f"# Starter scenario ({args.kind} vehicle) written by '{PROG} starter' from the bundled\n"
-        f"# demo {demo}. Everything below is an invented example: replace the vehicle, battery,\n"
-        "# setpoint, legs and decision values with your own, then run\n"
-        f"#   {PROG} check {target.name}     (validate, nominal result)\n"
-        f"#   {PROG} assess {target.name}    (probabilities and the report)\n#\n"
-    )
+
+
+def _write_starter(target: Path, text: str) -> None:
+    """Write ``text`` to ``target`` through a temporary file (no half-written file)."""
     target.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".partial", dir=target.parent)
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(header + text)
+            fh.write(text)
         os.chmod(tmp, 0o644)
         os.replace(tmp, target)
     except BaseException:
@@ -424,8 +439,6 @@ def _cmd_starter(args, console: Console) -> int:
         except FileNotFoundError:
             pass
         raise
-    console.result(f"Wrote {target} ({args.kind} starter). Edit it, then: {PROG} check {target}")
-    return 0
 
 
 def _cmd_study(args, console: Console) -> int:

@@ -11,7 +11,8 @@ from importlib import resources
 from pathlib import Path
 from typing import Iterator
 
-__all__ = ["DEMOS", "DATA_DEMO", "DATA_DEMO_FILES", "demo_path", "demo_text"]
+__all__ = ["DEMOS", "DATA_DEMO", "DATA_DEMO_FILES", "STARTERS", "demo_path", "demo_text",
+           "starter_text"]
 
 #: bundled demo scenarios, by vehicle kind
 DEMOS = {"propeller": "under_ice_section.toml", "glider": "glider_transit.toml"}
@@ -19,6 +20,12 @@ DEMOS = {"propeller": "under_ice_section.toml", "glider": "glider_transit.toml"}
 #: (needs the ocean extra); its files must sit side by side, as in the installed package
 DATA_DEMO = "sollen_sea_transit.toml"
 DATA_DEMO_FILES = (DATA_DEMO, "sollen_sea.nc")
+#: clean, commented starter files (configs/starters/), by kind; the study's base scenario is
+#: the propeller starter, written beside it
+STARTERS = {"propeller": "propeller_hull.toml", "propeller-drag": "propeller_drag.toml",
+            "glider": "glider.toml", "study": "study.toml"}
+#: the base scenario the study starter names
+STUDY_STARTER_BASE = STARTERS["propeller"]
 
 
 def _folder():
@@ -40,3 +47,8 @@ def demo_path(name: str) -> Iterator[Path]:
 def demo_text(name: str) -> str:
     """The text of a bundled demo file."""
     return (_folder() / name).read_text(encoding="utf-8")
+
+
+def starter_text(kind: str) -> str:
+    """The text of the bundled starter file of ``kind`` (a key of :data:`STARTERS`)."""
+    return _folder().joinpath("starters", STARTERS[kind]).read_text(encoding="utf-8")

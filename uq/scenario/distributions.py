@@ -38,7 +38,9 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from scipy import special, stats
+from scipy import stats
+
+from uq.scenario.beta_quantile import BetaQuantile
 
 __all__ = [
     "KINDS",
@@ -68,6 +70,9 @@ _TRUNCATION_REACH_SD = 6.0
 #: of 3.5e-4 of its range, in effect a fixed value; far beyond it (near 1e20) the inverse
 #: incomplete beta function of scipy before 1.17 never returns (measured on 1.13-1.16).
 _MAX_SHAPE = 1e6
+
+#: Marks a fast quantile function not built yet (see Marginal.ppf).
+_UNBUILT = object()
 
 # Key suffix -> unit; longest suffixes first so "_m_s" wins over "_s" and "_m".
 _UNIT_SUFFIXES = (
@@ -212,7 +217,7 @@ class Marginal:
         object.__setattr__(self, "params", params)
         full = _with_defaults(self.kind, params)
         object.__setattr__(self, "_frozen", _build_scipy(self.kind, full))
-        object.__setattr__(self, "_fast_ppf", _fast_quantile(self.kind, full))
+        object.__setattr__(self, "_fast_ppf", _UNBUILT)  # built on first use (see ppf)
 
     def __reduce__(self):
         # pickle what the planner wrote, not the scipy object and tables built from it: a
@@ -234,8 +239,12 @@ class Marginal:
             Quantiles, same shape as ``u`` [unit of the field].
         """
         u = np.asarray(u, dtype=float)
-        if self._fast_ppf is not None:
-            return self._fast_ppf(u)
+        fast = self._fast_ppf
+        if fast is _UNBUILT:  # the table costs a few ms; a marginal only read never needs it
+            fast = _fast_quantile(self.kind, _with_defaults(self.kind, self.params))
+            object.__setattr__(self, "_fast_ppf", fast)
+        if fast is not None:
+            return fast(u)
         return np.asarray(self._frozen.ppf(u), dtype=float)
 
     def cdf(self, x: Any) -> np.ndarray:
@@ -535,69 +544,6 @@ def _build_scipy(kind: str, p: Mapping[str, float]) -> Any:
         a, b = _pert_alpha_beta(p)
         return stats.beta(a, b, loc=p["min"], scale=p["max"] - p["min"])
     return stats.beta(p["alpha"], p["beta"], loc=p["low"], scale=p["high"] - p["low"])
-
-
-class BetaQuantile:
-    """Quantile function of Beta(a, b) on [low, high] for a, b >= 1, by table and Newton.
-
-    The inverse regularized incomplete beta function (what ``scipy.stats.beta.ppf`` runs) is an
-    iterative root search per value; the forward function ``scipy.special.betainc`` costs about
-    a fifth of it. So the quantile is tabulated once at ``knots`` points uniform in the normal
-    score z = Phi^-1(u) (which spreads the knots into both tails down to u = 2^-53), read by a
-    cubic Hermite interpolant in z (slopes dx/dz = phi(z) / f(x)), and polished by one Newton
-    step on I_x(a, b) - u = 0, kept inside the bracket of the two neighbouring knots. Measured
-    agreement: |I_x(a, b) - u| <= 1e-12 for PERT shapes (``tests/uq/scenario``); a and b below 1
-    (infinite density at an end) are left to scipy.
-
-    Parameters
-    ----------
-    a, b : float
-        Shape parameters, >= 1 [-].
-    low, high : float
-        Support [unit of the field].
-    knots : int, default 1025
-    """
-
-    _Z_MAX = 8.3  # Phi(-8.3) ~ 5e-17 < 2^-53, the sampling transform's clip
-
-    def __init__(self, a: float, b: float, low: float, high: float, *, knots: int = 1025) -> None:
-        self.a, self.b, self.low, self.span = float(a), float(b), float(low), float(high - low)
-        self._log_norm = float(special.betaln(a, b))
-        z = np.linspace(-self._Z_MAX, self._Z_MAX, knots)
-        x = special.betaincinv(a, b, special.ndtr(z))
-        self._z0, self._dz = float(z[0]), float(z[1] - z[0])
-        self._x = x
-        density = self._density(x)
-        phi = np.exp(-0.5 * z * z) / math.sqrt(2.0 * math.pi)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            slope = np.where(density > 0, phi / density, 0.0)
-        self._slope = slope * self._dz  # Hermite tangents in units of one knot interval
-
-    def _density(self, x: np.ndarray) -> np.ndarray:
-        with np.errstate(divide="ignore", invalid="ignore"):
-            log_f = ((self.a - 1.0) * np.log(x) + (self.b - 1.0) * np.log1p(-x) - self._log_norm)
-        return np.where((x > 0) & (x < 1), np.exp(log_f), 0.0)
-
-    def __call__(self, u: np.ndarray) -> np.ndarray:
-        u = np.asarray(u, dtype=float)
-        z = special.ndtri(np.clip(u, 0.0, 1.0))
-        t = (np.clip(z, -self._Z_MAX, self._Z_MAX) - self._z0) / self._dz
-        k = np.minimum(t.astype(np.intp), self._x.size - 2)
-        s = t - k
-        x0, x1 = self._x[k], self._x[k + 1]
-        m0, m1 = self._slope[k], self._slope[k + 1]
-        s2, s3 = s * s, s * s * s
-        x = ((2 * s3 - 3 * s2 + 1) * x0 + (s3 - 2 * s2 + s) * m0
-             + (-2 * s3 + 3 * s2) * x1 + (s3 - s2) * m1)
-        # one Newton step on I_x(a, b) = u, kept inside the knots' bracket [x0, x1]
-        density = self._density(x)
-        residual = special.betainc(self.a, self.b, np.clip(x, 0.0, 1.0)) - u
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = np.where(density > 0, residual / density, 0.0)
-        x = np.clip(x - step, x0, x1)
-        x = np.where(u <= 0.0, 0.0, np.where(u >= 1.0, 1.0, x))
-        x = np.where(np.isnan(u), np.nan, x)
-        return self.low + self.span * x
 
 
 def _fast_quantile(kind: str, p: Mapping[str, float]) -> BetaQuantile | None:

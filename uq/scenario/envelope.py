@@ -6,13 +6,13 @@ status 2) and the narrower range outside which it is **implausible** (the run go
 a caution in the report and on stderr). A distribution is checked by its reach: its support
 when bounded, else its 1e-6 and 1 - 1e-6 quantiles, must stay inside the possible range
 (a normal current with sd 5 m/s is an error); its 1 % and 99 % quantiles are checked against
-the plausible range. The reader (:mod:`uq.scenario.reader`) applies the table after its own
+the plausible range. The reader (:mod:`uq.scenario.field_reader`) applies the table after its own
 type and sign checks.
 
 To add a field: add one :class:`Limit` row to :data:`COMMON` (both kinds) or to the kind's
 own tuple, with the source of each number in a comment ("common practice, no source" for a
 fact of the trade, "from memory" for a recalled figure). The README's scenario section
-prints the same table (``python -m uq.scenario.envelope`` writes it as Markdown).
+prints the same table (``python scripts/readme_tables.py`` regenerates it; a test compares).
 """
 from __future__ import annotations
 

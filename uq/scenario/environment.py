@@ -54,6 +54,7 @@ from typing import Any
 
 import numpy as np
 
+from uq.scenario.field_table import keys_of
 from uq.scenario.errors import MISSING, ScenarioError
 from uq.scenario.ocean import OceanDataError, band_bottom, band_mean, file_sha256, open_field
 from uq.scenario.route import (RouteLeg, geodesic_legs, leg_track, parse_time,
@@ -192,9 +193,9 @@ def build_route(route: Any, environment: Any, *, file: str, setpoint: Any, kind:
     if not isinstance(route, Mapping):
         raise ScenarioError(file, "route", route, "a table [route] with waypoints or csv")
     for key in route:
-        if key not in ("waypoints", "csv", "sample_spacing_km"):
+        if key not in keys_of("route"):
             raise ScenarioError(file, f"route.{key}", route[key],
-                                "a key of [route] (one of: waypoints, csv, sample_spacing_km)")
+                                f"a key of [route] (one of: {', '.join(keys_of('route'))})")
     given = [k for k in ("waypoints", "csv") if k in route]
     if len(given) != 1:
         raise ScenarioError(file, "route.waypoints", MISSING if not given else route["csv"],
@@ -232,7 +233,8 @@ _FIELD_KEYS = {
     "bathymetry": ("file", "variable"),
     "ice": ("file", "variable", "draft_m", "threshold"),
 }
-_SETTINGS = ("start", "progress_m_s", "launch_window_days", "seabed_clearance_m", "correlate")
+#: the settings of [environment] (the other keys are the data fields above), from the field table
+_SETTINGS = tuple(k for k in keys_of("environment") if k not in _FIELD_KEYS)
 
 
 class _Environment:

@@ -53,6 +53,7 @@ import numpy as np
 
 from uq.errors import InputError
 from uq.scenario.errors import MISSING, ScenarioError
+from uq.scenario.fields import SCHEMES
 from uq.scenario.reader import parse_scenario, parse_toml, read_text_file
 from uq.scenario.types import Scenario
 
@@ -71,7 +72,6 @@ __all__ = [
 #: Largest number of variants a study may expand to.
 MAX_VARIANTS = 10_000
 
-_SCHEMES = ("sobol", "monte-carlo", "latin-hypercube")
 _FORBIDDEN_SECTIONS = {
     "scenario": "the scenario's name and description are not study variables",
     "analysis": "the study's [study] samples, seed and scheme apply to every variant",
@@ -289,10 +289,10 @@ class _StudyReader:
             self.fail("study.samples", samples, "an integer >= 2 (number of samples per variant)")
         if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0:
             self.fail("study.seed", seed, "an integer >= 0 (random seed)")
-        if not isinstance(scheme, str) or scheme not in _SCHEMES:
-            close = difflib.get_close_matches(str(scheme), _SCHEMES, n=1, cutoff=0.6)
+        if not isinstance(scheme, str) or scheme not in SCHEMES:
+            close = difflib.get_close_matches(str(scheme), SCHEMES, n=1, cutoff=0.6)
             self.fail("study.scheme", scheme, "the sampling scheme: one of "
-                      + ", ".join(repr(s) for s in _SCHEMES), close[0] if close else None)
+                      + ", ".join(repr(s) for s in SCHEMES), close[0] if close else None)
         if "replicates" in head:
             replicates = head["replicates"]
             if isinstance(replicates, bool) or not isinstance(replicates, int) or replicates < 1:

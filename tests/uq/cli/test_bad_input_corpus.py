@@ -7,8 +7,10 @@ swaps on every key, values outside the plausibility envelope, broken distributio
 correlations, unknown keys and inputs — plus special files (FIFO, a symbolic link to
 /dev/zero, a folder), deep nesting, a file over the size limit and byte-order marks.
 
-The corpus runs in process through ``uq.cli.main`` (a few seconds); a handful of cases also
-run as real processes at the end, to see the true exit status and stderr.
+The corpus runs in process through ``uq.cli.main``: a light default subset, the rest with
+``-m slow``; three cases also run as real processes, to see the true exit status and stderr.
+``corpus_tally.py`` beside this file runs every case as a real process and counts the
+outcomes (clean exit 2 / unclean exit 2 / crash / accepted).
 """
 from __future__ import annotations
 
@@ -113,8 +115,8 @@ def _type_swaps(kind: str, text: str):
         for label, new in _TYPE_SWAPS.items():
             if label == "string" and key in _STRING_KEYS - {"kind", "currency", "scheme", "reference"}:
                 continue  # any string is a valid name or description
-            if label == "table" and key in ("kind",):
-                pass
+            if label == "date" and re.fullmatch(r"\d{4}-\d{2}-\d{2}", value):
+                continue  # a date in a date field is no type swap
             yield Case(f"{kind}-type-{fragment}-{label}", "check", f"{kind}.toml",
                        _replace_value(text, i, new), fragment)
 
@@ -318,7 +320,7 @@ def _corpus() -> list[Case]:
 
 CORPUS = _corpus()
 _BULK = ("-type-", "-envelope-", "-dist-")  # the large rule-generated families
-_EVERY = 10  # the default run takes every 10th case of those families, the slow run the rest
+_EVERY = 20  # the default run takes every 20th case of those families, the slow run the rest
 
 
 def _default(case: Case, index: int) -> bool:
@@ -330,8 +332,9 @@ SLOW = [c for i, c in enumerate(CORPUS) if not _default(c, i)]
 
 
 def test_the_corpus_is_large_enough():
-    assert len(DEFAULT) >= 300, len(DEFAULT)
-    assert len(CORPUS) >= 1500, len(CORPUS)
+    # the default run stays light (a few seconds); -m slow and corpus_tally.py run all of it
+    assert len(DEFAULT) >= 200, len(DEFAULT)
+    assert len(CORPUS) >= 2000, len(CORPUS)
 
 
 # ------------------------------------------------------------------ running a case
@@ -400,9 +403,9 @@ def test_a_byte_order_mark_is_accepted(tmp_path, capsys):
 
 
 # ------------------------------------------------------------------ real processes
-_REAL = ["special-fifo", "special-devzero", "propeller-deep-array",
-         "propeller-envelope-legs.launch_approach.current_along_m_s-1e300",
-         "study-grid-wide-current"]
+# (corpus_tally.py runs every case as a real process; here the ones a process must show:
+# a FIFO that could block, /dev/zero that could fill memory, nesting that could blow the stack)
+_REAL = ["special-fifo", "special-devzero", "propeller-deep-array"]
 
 
 @pytest.mark.parametrize("case_id", _REAL)
