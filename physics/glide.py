@@ -54,7 +54,8 @@ _TAU = 1.0 + 5.0 * np.linspace(0.0, 1.0, 41) ** 2
 _ANGLE_MARGIN = 1e-9  # [rad] kept above the flattest angle so the root stays real
 _ALL = np.arange(_TAU.size)
 _COARSE = _ALL[::4]  # first pass of the search: every 4th angle of the grid
-_WINDOW = np.arange(-5, 6)  # second pass: the best coarse angle +- 5 (its neighbours included)
+_WINDOW = np.arange(-5, 6)
+_TRIM_BLOCK = 1024  # rows per grid evaluation: 11 x 1024 doubles = 88 KiB, heap and cache  # second pass: the best coarse angle +- 5 (its neighbours included)
 
 
 class GlideInputError(ValueError):
@@ -518,6 +519,11 @@ def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
     rows with no feasible coarse angle are scanned in full (tests/physics/
     test_flight_policy.py checks the two passes against the full scan).
     """
+    if u.size > _TRIM_BLOCK:  # rows in blocks whose grids stay in cache (same results)
+        parts = [_efficient_trim(*(a[i:i + _TRIM_BLOCK] for a in (
+            u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat)))
+            for i in range(0, u.size, _TRIM_BLOCK)]
+        return tuple(np.concatenate(p) for p in zip(*parts))
     # layout (angles, rows): the long axis last, so numpy's inner loops run over the rows
     row = (lambda a: a[None, :])
     tan_flat = np.tan(flat)
@@ -546,15 +552,22 @@ def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
 def _trim_grid(tan_flat, index, two_cd0, four_k_cd0, half_rho_s_u2, b_max, eta, overhead):
     """t, C_L, sec^3, cost (inf where B > b_max) and feasibility at grid angles ``index``
     (shape (angles, rows) or (angles, 1); the row terms are (1, rows))."""
+    # the same operations as the formulas in the docstring of _efficient_trim, in place where
+    # a temporary can be reused (fewer large allocations: page faults cost as much as the math)
     t = _TAU[index] * tan_flat[None, :]
-    t2 = t * t
-    cl = two_cd0 / (t + np.sqrt(np.maximum(t2 - four_k_cd0, 0.0)))
-    secant2 = 1.0 + t2
-    secant3 = secant2 * np.sqrt(secant2)  # 1 / cos^3 (a square root is cheaper than ** 1.5)
-    b = cl * secant3
+    secant3 = t * t
+    cl = secant3 - four_k_cd0
+    np.maximum(cl, 0.0, out=cl)
+    np.sqrt(cl, out=cl)
+    cl += t
+    np.divide(two_cd0, cl, out=cl)
+    secant3 += 1.0  # sec^2
+    cost = np.sqrt(secant3)
+    secant3 *= cost  # 1 / cos^3 (a square root is cheaper than ** 1.5)
+    b = np.multiply(cl, secant3, out=cost)
     b *= half_rho_s_u2
     feasible = b <= b_max
-    cost = b / eta
+    cost = np.divide(b, eta, out=b)
     cost += overhead
     cost *= t
     np.putmask(cost, ~feasible, np.inf)
