@@ -94,18 +94,21 @@ def _pick_trim(t, cl, secant3, cost, feasible, index, cd0, k, rho, area, u, b_ma
     shape (angles, rows)): the least cost refined by a parabola, else the engine's limit at
     the fastest angle."""
     best = np.argmin(cost, axis=0)
-    rows = np.arange(u.size)
-    held = feasible[best, rows]
-    j_grid = index[best, rows]
-    t_best = t[best, rows]
-    b_out = (cl[best, rows] * secant3[best, rows]) * (0.5 * rho * area * u ** 2)
+    m = u.size
+    rows = np.arange(m)
+    at = best * m + rows  # flat positions of the best points (gathers cheaper than [best, rows])
+    held = np.take(feasible, at)
+    j_grid = np.take(index, at) if index.shape[1] == m else index[best, 0]
+    t_best = np.take(t, at)
+    b_out = (np.take(cl, at) * np.take(secant3, at)) * (0.5 * rho * area * u ** 2)
     # refine inside the bracket: vertex of the parabola through the three grid points
     inner = held & (j_grid > 0) & (j_grid < _TAU.size - 1) & (best > 0) \
         & (best < index.shape[0] - 1)
     if inner.any():
-        i, j = rows[inner], best[inner]
-        x0, x1, x2 = t[j - 1, i], t[j, i], t[j + 1, i]
-        y0, y1, y2 = cost[j - 1, i], cost[j, i], cost[j + 1, i]
+        i = rows[inner]
+        mid = at[inner]
+        x0, x1, x2 = np.take(t, mid - m), np.take(t, mid), np.take(t, mid + m)
+        y0, y1, y2 = np.take(cost, mid - m), np.take(cost, mid), np.take(cost, mid + m)
         with np.errstate(invalid="ignore", divide="ignore"):
             num = (x1 - x0) ** 2 * (y1 - y2) - (x1 - x2) ** 2 * (y1 - y0)
             den = (x1 - x0) * (y1 - y2) - (x1 - x2) * (y1 - y0)
