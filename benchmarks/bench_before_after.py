@@ -1,10 +1,11 @@
 """Two revisions of the project side by side: glider and propeller per-sample cost, assessment.
 
 Usage (from the repository root):
-    python benchmarks/bench_before_after.py --before c10ea1d [--n 16384] [--rounds 3] [--assess]
+    python benchmarks/bench_before_after.py --before c10ea1d [--after REV] [--n 16384]
+        [--rounds 3] [--assess]
 
-The ``--before`` revision is exported with ``git archive`` into a temporary directory; the
-``after`` side is this working tree. Each measurement runs in a fresh subprocess with
+The ``--before`` revision (and ``--after``, else this working tree) is exported with
+``git archive`` into a temporary directory. Each measurement runs in a fresh subprocess with
 ``PYTHONPATH`` set to one side's tree (so that tree's ``physics`` and ``uq`` are imported),
 and the two sides alternate round by round: a load spike on the shared machine hits both.
 Figures are the best of the rounds, in CPU seconds of the process (``time.process_time``:
@@ -85,9 +86,20 @@ def _run(tree: Path, what: str, n: int) -> dict:
     return json.loads(proc.stdout.strip().splitlines()[-1])
 
 
+def _export(revision: str, into: Path) -> Path:
+    """The tree of ``revision`` (git archive) in directory ``into``."""
+    into.mkdir(parents=True)
+    archive = subprocess.run(["git", "-C", str(ROOT), "archive", revision],
+                             capture_output=True, check=True).stdout
+    subprocess.run(["tar", "-x", "-C", str(into)], input=archive, check=True)
+    return into
+
+
 def main(argv=None) -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--before", default="c10ea1d", help="git revision of the 'before' side")
+    parser.add_argument("--after", default=None,
+                        help="git revision of the 'after' side (default: this working tree)")
     parser.add_argument("--n", type=int, default=16384)
     parser.add_argument("--rounds", type=int, default=3)
     parser.add_argument("--assess", action="store_true")
@@ -101,10 +113,8 @@ def main(argv=None) -> None:
 
     print(_machine.machine_report())
     with tempfile.TemporaryDirectory() as tmp:
-        archive = subprocess.run(["git", "-C", str(ROOT), "archive", args.before],
-                                 capture_output=True, check=True).stdout
-        subprocess.run(["tar", "-x", "-C", tmp], input=archive, check=True)
-        sides = {"before": Path(tmp), "after": ROOT}
+        sides = {"before": _export(args.before, Path(tmp) / "before"),
+                 "after": ROOT if args.after is None else _export(args.after, Path(tmp) / "after")}
         best: dict = {side: {} for side in sides}
         for what in ("model",) + (("assess",) if args.assess else ()):
             for _ in range(args.rounds):
@@ -112,7 +122,7 @@ def main(argv=None) -> None:
                     for key, value in _run(tree, what, args.n).items():
                         old = best[side].get(key)
                         best[side][key] = value if old is None else min(old, value)
-    print(f"before = {args.before}, after = working tree; best of {args.rounds} alternating "
+    print(f"before = {args.before}, after = {args.after or 'working tree'}; best of {args.rounds} alternating "
           f"rounds; load average now {_machine.load_average()}")
     unit = lambda key: "s" if key.startswith(("assess", "  ")) else ""  # noqa: E731
     print(f"{'measure':<26}{'before CPU':>12}{'after CPU':>12}{'ratio':>8}"
