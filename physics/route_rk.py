@@ -26,6 +26,7 @@ from physics.states import FailureMode, FlightEvent
 __all__ = ["fly_legs_rk", "follow_extension_rk", "hermite_root"]
 
 _BISECTION_STEPS = 30  # 1e-9 of a step
+_ROOT_STEPS = 40  # safeguarded Newton in hermite_root: 3-6 steps in practice, 40 at worst
 _GAUSS_NODES, _GAUSS_WEIGHTS = np.polynomial.legendre.leggauss(8)
 
 
@@ -238,18 +239,33 @@ class _Subset:
 def hermite_root(y0, y1, d0, d1, *, increasing=False):
     """Fraction s in [0, 1] where the cubic Hermite through (0, y0, d0), (1, y1, d1) is zero.
 
-    For a decreasing quantity (y0 > 0 >= y1) or, with ``increasing``, y0 <= 0 < y1. Bisection,
-    so it never leaves the bracket even if the slopes are inconsistent.
+    For a decreasing quantity (y0 > 0 >= y1) or, with ``increasing``, y0 <= 0 < y1. Newton
+    steps on the cubic from the secant's root, safeguarded by the sign-change bracket (a step
+    that would leave it bisects instead), so it never leaves the bracket even if the slopes
+    are inconsistent; stops when every step is below 1e-14 of the interval (at most
+    ``_ROOT_STEPS``). A 30-step bisection did the same to 1e-9 at several times the cost.
     """
+    sign = -1.0 if increasing else 1.0
+    # y(s) = ((a s + b) s + d0) s + y0, the Hermite basis expanded
+    a = 2.0 * (y0 - y1) + d0 + d1
+    b = 3.0 * (y1 - y0) - 2.0 * d0 - d1
     lo = np.zeros_like(y0)
     hi = np.ones_like(y0)
-    sign = -1.0 if increasing else 1.0
-    for _ in range(_BISECTION_STEPS):
-        s = 0.5 * (lo + hi)
-        s2, s3 = s * s, s * s * s
-        y = (2 * s3 - 3 * s2 + 1) * y0 + (s3 - 2 * s2 + s) * d0 \
-            + (-2 * s3 + 3 * s2) * y1 + (s3 - s2) * d1
-        above = sign * y > 0
-        lo = np.where(above, s, lo)
-        hi = np.where(above, hi, s)
-    return 0.5 * (lo + hi)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        s = np.clip(y0 / (y0 - y1), 0.0, 1.0)
+        for _ in range(_ROOT_STEPS):
+            y = sign * (((a * s + b) * s + d0) * s + y0)
+            slope = sign * ((3.0 * a * s + 2.0 * b) * s + d0)
+            above = y > 0
+            lo = np.where(above, s, lo)
+            hi = np.where(above, hi, s)
+            newton = s - y / slope
+            # a Newton step inside the bracket, or one already below 1e-14 (converged: y may
+            # be exactly 0, when the bracket closes on s itself); else bisect
+            keep = ((newton > lo) & (newton < hi)) | ~(np.abs(newton - s) > 1e-14)
+            step = np.where(keep, newton, 0.5 * (lo + hi)) - s
+            step = np.where(np.isfinite(step), step, 0.0)
+            s = s + step
+            if not np.any(np.abs(step) > 1e-14):
+                break
+    return np.clip(s, 0.0, 1.0)
