@@ -251,6 +251,7 @@ def hermite_root(y0, y1, d0, d1, *, increasing=False):
     b = 3.0 * (y1 - y0) - 2.0 * d0 - d1
     lo = np.zeros_like(y0)
     hi = np.ones_like(y0)
+    done = np.zeros(np.shape(y0), dtype=bool)
     with np.errstate(invalid="ignore", divide="ignore"):
         s = np.clip(y0 / (y0 - y1), 0.0, 1.0)
         for _ in range(_ROOT_STEPS):
@@ -264,8 +265,11 @@ def hermite_root(y0, y1, d0, d1, *, increasing=False):
             # be exactly 0, when the bracket closes on s itself); else bisect
             keep = ((newton > lo) & (newton < hi)) | ~(np.abs(newton - s) > 1e-14)
             step = np.where(keep, newton, 0.5 * (lo + hi)) - s
-            step = np.where(np.isfinite(step), step, 0.0)
+            # a row that has converged stays as it is, so each row's result depends on its
+            # own data only, not on which other rows share the call (block independence)
+            step = np.where(np.isfinite(step) & ~done, step, 0.0)
             s = s + step
-            if not np.any(np.abs(step) > 1e-14):
+            done |= ~(np.abs(step) > 1e-14)
+            if done.all():
                 break
     return np.clip(s, 0.0, 1.0)

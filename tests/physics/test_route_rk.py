@@ -34,3 +34,16 @@ def test_hermite_root_matches_numpy_roots_of_the_cubic():
     # increasing form: y0 <= 0 < y1 is the mirror image
     s_up = hermite_root(-y0, -y1, -d0, -d1, increasing=True)
     np.testing.assert_allclose(s_up, s, rtol=0, atol=1e-12)
+
+
+def test_hermite_root_of_a_row_does_not_depend_on_the_other_rows():
+    # Reproducibility rule of the project (results independent of block size): each row's
+    # root must be the same whether it is solved alone or beside any other rows (derived).
+    rng = np.random.default_rng(11)
+    n = 300
+    y0, y1 = rng.uniform(0.01, 5.0, n), -rng.uniform(0.0, 5.0, n)
+    d0, d1 = rng.uniform(-10.0, 2.0, n), rng.uniform(-10.0, 2.0, n)
+    together = hermite_root(y0, y1, d0, d1)
+    alone = np.array([hermite_root(y0[i:i + 1], y1[i:i + 1], d0[i:i + 1], d1[i:i + 1])[0]
+                      for i in range(n)])
+    np.testing.assert_array_equal(together, alone)
