@@ -26,6 +26,7 @@ from physics.states import FailureMode, FlightEvent
 __all__ = ["fly_legs_rk", "follow_extension_rk", "hermite_root"]
 
 _BISECTION_STEPS = 30  # 1e-9 of a step
+_EXTENSION_CHUNK = 4  # extension steps between drops of the samples whose range is found
 _ROOT_STEPS = 40  # safeguarded Newton in hermite_root: 3-6 steps in practice, 40 at worst
 _GAUSS_NODES, _GAUSS_WEIGHTS = np.polynomial.legendre.leggauss(8)
 
@@ -48,18 +49,33 @@ def fly_legs_rk(rates, battery, route: RouteInputs, rec: RouteRecord, *, steps_p
 def follow_extension_rk(rates, battery, route: RouteInputs, rec: RouteRecord, follow,
                         extension_steps: int) -> None:
     """Continue the samples ``follow`` past the route end with the last leg's conditions,
-    only to find where their range ends; the route's own events are left as they were."""
-    flight = _RungeKutta(rates, battery, route, rec)
+    only to find where their range ends; the route's own events are left as they were.
+
+    Only the range is wanted here, so the samples are flown a few steps at a time and each
+    is dropped once its range is found (or it stops): the others go on as a subset. Every
+    step of a sample is the same as in one pass over all samples (the rates of a sample
+    depend on its own state alone, and the fouling clock is counted from the same entry).
+    """
     last = route.n_legs - 1
+    n = route.n
+    h = route.route * route.extension / extension_steps
+    t_entry, clock_entry = rec.t.copy(), rec.clock.copy()
     rec.moving[:] = follow
-    cap_length = route.route * route.extension
-    h = np.where(follow, cap_length / extension_steps, 0.0)
-    saved = (rec.leg_energy[:, last].copy(), rec.leg_distance[:, last].copy(),
-             rec.stop_x.copy(), rec.stop_mode.copy(), rec.stop_leg.copy(), rec.time_x.copy(),
-             rec.time_leg.copy(), rec.seen_events.copy(), rec.surfacings.copy())
-    flight.leg(last, h, extension_steps, rec.t.copy(), rec.clock.copy(), profile_every=0)
-    (rec.leg_energy[:, last], rec.leg_distance[:, last], rec.stop_x, rec.stop_mode,
-     rec.stop_leg, rec.time_x, rec.time_leg, rec.seen_events, rec.surfacings) = saved
+    active = np.flatnonzero(follow)
+    done = 0
+    while done < extension_steps and active.size:
+        steps = min(_EXTENSION_CHUNK, extension_steps - done)
+        sub = RouteRecord(active.size, route.n_legs)
+        sub.x, sub.t, sub.energy = rec.x[active], rec.t[active], rec.energy[active]
+        flight = _RungeKutta(take(rates, active, n), take(battery, active, n),
+                             take(route, active, n), sub)
+        flight.leg(last, h[active], steps, t_entry[active], clock_entry[active],
+                   profile_every=0)
+        rec.x[active], rec.t[active], rec.energy[active] = sub.x, sub.t, sub.energy
+        rec.moving[active] = sub.moving
+        rec.range_x[active], rec.range_leg[active] = sub.range_x, sub.range_leg
+        active = active[sub.moving & np.isnan(sub.range_x)]
+        done += steps
 
 
 class _RungeKutta:
