@@ -9,6 +9,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from physics.efficient_trim import efficient_trim as _efficient_trim
+
 __all__ = [
     "FLY_EFFICIENT",
     "FLY_HOLD_ANGLE",
@@ -49,8 +51,6 @@ FLIGHT_POLICIES = {FLY_HOLD_ANGLE: "hold_angle", FLY_HOLD_SPEED: "hold_speed",
                    FLY_EFFICIENT: "efficient"}
 
 _BRANCHES = ("efficient", "slow")
-# angle grid of the efficient policy: tan(gamma) = tan(gamma_flat) * tau, tau in [1, 1 + 5]
-_TAU = 1.0 + 5.0 * np.linspace(0.0, 1.0, 41) ** 2
 _ANGLE_MARGIN = 1e-9  # [rad] kept above the flattest angle so the root stays real
 
 
@@ -498,56 +498,3 @@ def glide_trim(policy, commanded_angle, commanded_buoyancy, commanded_speed, den
         at_limit=ok & at_limit,
         state=state,
     )
-
-
-def _efficient_trim(u, rho, area, cd0, k, cl_max, b_max, eta, overhead, flat):
-    """Least-energy angle holding speed u within B <= b_max, on a grid (1-D inputs).
-
-    The grid is tan(gamma) = tan(gamma_flat) tau; on it the efficient root is
-    C_L = 2 C_D0 / (t + sqrt(t^2 - 4 K C_D0)) (no stall: C_L falls as t rises from the
-    flattest angle) and B = rho S C_L u^2 (1 + t^2)^(3/2) / 2, the closed forms of
-    :func:`steady_glide` and :func:`net_buoyancy_for_speed` written out for speed.
-    """
-    col = (lambda a: a[:, None])
-    t = np.tan(col(flat)) * _TAU[None, :]
-    t2 = t * t
-    cl = col(2.0 * cd0) / (t + np.sqrt(np.maximum(t2 - col(4.0 * k * cd0), 0.0)))
-    secant2 = 1.0 + t2
-    secant3 = secant2 * np.sqrt(secant2)  # 1 / cos^3 (a square root is cheaper than ** 1.5)
-    b = cl * secant3
-    b *= col(0.5 * rho * area * u ** 2)
-    feasible = b <= col(b_max)
-    cost = b / col(eta)
-    cost += col(overhead)
-    cost *= t
-    cost[~feasible] = np.inf
-    best = np.argmin(cost, axis=1)
-    rows = np.arange(u.size)
-    held = feasible[rows, best]
-    t_best, b_out = t[rows, best], b[rows, best]
-    # refine inside the bracket: vertex of the parabola through the three grid points
-    inner = held & (best > 0) & (best < _TAU.size - 1)
-    if inner.any():
-        i, j = rows[inner], best[inner]
-        x0, x1, x2 = t[i, j - 1], t[i, j], t[i, j + 1]
-        y0, y1, y2 = cost[i, j - 1], cost[i, j], cost[i, j + 1]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            num = (x1 - x0) ** 2 * (y1 - y2) - (x1 - x2) ** 2 * (y1 - y0)
-            den = (x1 - x0) * (y1 - y2) - (x1 - x2) * (y1 - y0)
-            x_v = x1 - 0.5 * num / den
-        good = np.isfinite(x_v) & (x_v > x0) & (x_v < x2)
-        x_v = np.where(good, x_v, x1)
-        cd0_i, k_i = cd0[i], k[i]
-        cl_v = 2.0 * cd0_i / (x_v + np.sqrt(np.maximum(x_v * x_v - 4.0 * k_i * cd0_i, 0.0)))
-        b_v = 0.5 * rho[i] * area[i] * cl_v * u[i] ** 2 * (1.0 + x_v * x_v) ** 1.5
-        better = good & (b_v <= b_max[i]) & ((b_v / eta[i] + overhead[i]) * x_v <= y1)
-        t_best[i] = np.where(better, x_v, x1)
-        b_out[i] = np.where(better, b_v, b_out[i])
-    g = np.arctan(t_best)
-    if not held.all():
-        # fallback: the engine's limit at the angle of the highest horizontal speed; at fixed
-        # B, u = sqrt(2 B / (rho S C_L (1 + t^2)^(3/2))): the largest 1 / (C_L secant^3)
-        fastest = np.argmax(1.0 / (cl * secant3), axis=1)
-        g = np.where(held, g, np.arctan(t[rows, fastest]))
-        b_out = np.where(held, b_out, b_max)
-    return g, b_out, ~held

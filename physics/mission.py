@@ -195,18 +195,31 @@ class GliderRates:
         per_cycle = np.where(surfaces, self.surface_time / np.where(surfaces, n_dives, 1.0), 0.0)
         overhead = (2.0 * (self.inflection_energy + hotel * self.inflection_time)
                     + self.stroke_fixed_energy + (self.surface_power + hotel) * per_cycle)
-        def trim_with(zero_lift_drag, induced_drag_factor):
+        def trim_with(zero_lift_drag, induced_drag_factor, rows=slice(None)):
+            def pick(value):  # the per-sample fields at ``rows``; scalars as they are
+                return value[rows] if np.ndim(value) else value
             return _glide.glide_trim(
-                policy, self.glide_angle, self.net_buoyancy, self.horizontal_speed,
-                self.density[:, leg], self.reference_area, zero_lift_drag, induced_drag_factor,
-                self.max_lift_coefficient, b_max, pump_efficiency=self.pump_efficiency,
-                overhead_per_tan=overhead / (2.0 * np.where(band > 0, band, 1.0)))
+                pick(policy), pick(self.glide_angle), pick(self.net_buoyancy),
+                pick(self.horizontal_speed), pick(self.density[:, leg]),
+                pick(self.reference_area), zero_lift_drag, induced_drag_factor,
+                pick(self.max_lift_coefficient), pick(b_max),
+                pump_efficiency=pick(self.pump_efficiency),
+                overhead_per_tan=pick(overhead / (2.0 * np.where(band > 0, band, 1.0))))
 
-        trim = trim_with(cd0, k)
         clean = self._clean_trim.get(leg)
         if clean is None:
             clean = self._clean_trim[leg] = trim_with(self.zero_lift_drag,
                                                       self.induced_drag_factor)
+        # a sample not yet fouled (phi = 0, before the onset) flies the clean trim exactly:
+        # the polar is the clean one to the last bit, so only the fouled rows are trimmed
+        fouled = np.flatnonzero(np.broadcast_to(phi, cd0.shape) > 0.0)
+        if cd0.ndim == 0 or fouled.size == cd0.size:
+            trim = trim_with(cd0, k)
+        else:
+            trim = clean
+            if fouled.size:
+                part = trim_with(cd0[fouled], k[fouled], fouled)
+                trim = _glide.GlideTrim(*(_scatter(c, fouled, p) for c, p in zip(clean, part)))
         cycle = _engine.dive_cycle(
             trim.horizontal_speed, trim.vertical_speed, trim.net_buoyancy, top, bottom,
             self.pump_efficiency, hotel,
@@ -240,6 +253,13 @@ class GliderRates:
 
 
 _RETRIM_ANGLE = np.deg2rad(0.5)
+
+
+def _scatter(values, rows, part):
+    """A copy of ``values`` with ``part`` written at ``rows``."""
+    out = np.array(values, copy=True)
+    out[rows] = part
+    return out
 
 
 def _on_leg(value, leg):

@@ -40,6 +40,7 @@ __all__ = [
     "stream",
     "CountReducer",
     "CountTotal",
+    "GroupCountReducer",
     "SumReducer",
     "SumTotal",
     "HistogramReducer",
@@ -216,6 +217,47 @@ class CountReducer:
 
     def reduce(self, partials: list) -> CountTotal:
         return CountTotal(sum(p[0] for p in partials), sum(p[1] for p in partials))
+
+
+class GroupCountReducer:
+    """Exact counts of ``True`` in a boolean output, one per consecutive group of rows.
+
+    Parameters
+    ----------
+    key : str or None
+        Output name.
+    offsets : sequence of int
+        First row of each group and the total (e.g. :attr:`uq.sampling.plans.StackedDesigns
+        .offsets`), so one pass over stacked plans counts each plan apart.
+
+    Returns (from :func:`stream`) a list of :class:`CountTotal`, one per group.
+    """
+
+    def __init__(self, key: str | None, offsets, *, block_size: int | None = None) -> None:
+        self.key = key
+        self.offsets = np.asarray(offsets, dtype=np.int64)
+        self.block_size = block_size
+
+    def prepare(self, design) -> "GroupCountReducer":
+        """Bind to the plan's block size, which places each block's rows in the groups."""
+        return GroupCountReducer(self.key, self.offsets, block_size=design.block_size)
+
+    def map(self, block_index: int, outputs: Any) -> np.ndarray:
+        if self.block_size is None:
+            raise EngineError("GroupCountReducer must be prepared with the plan (stream does)")
+        values = _output(outputs, self.key)
+        if values.dtype != bool:
+            raise OutputKeyError(f"GroupCountReducer needs a boolean output for {self.key!r}; "
+                                 f"got dtype {values.dtype}")
+        rows = block_index * self.block_size + np.arange(values.size)
+        group = np.searchsorted(self.offsets, rows, side="right") - 1
+        groups = self.offsets.size - 1
+        return np.stack([np.bincount(group, weights=values, minlength=groups),
+                         np.bincount(group, minlength=groups)]).astype(np.int64)
+
+    def reduce(self, partials: list) -> list[CountTotal]:
+        total = np.sum(partials, axis=0) if partials else np.zeros((2, self.offsets.size - 1))
+        return [CountTotal(int(c), int(m)) for c, m in zip(total[0], total[1])]
 
 
 class SumTotal(NamedTuple):

@@ -49,6 +49,7 @@ __all__ = [
     "SCHEMES",
     "SampleDesign",
     "SampleDesignError",
+    "StackedDesigns",
     "PowerOfTwoError",
     "RowRangeError",
     "monte_carlo",
@@ -261,6 +262,50 @@ class SampleDesign:
             # The plan as a whole has n = 2^m points; a chunk need not be a power of two.
             warnings.filterwarnings("ignore", message="The balance properties of Sobol")
             return engine.random(stop - start)
+
+
+@dataclasses.dataclass(frozen=True, eq=False)
+class StackedDesigns:
+    """Several plans streamed as one: their rows end to end, in blocks that span plans.
+
+    Independent replicates of a few hundred rows each cost the model one small call apiece;
+    stacked, the model sees blocks of ``block_size`` rows whatever the replicate size. Each
+    plan's rows are its own :meth:`SampleDesign.unit_points` (so they do not depend on the
+    blocks), and the rows of plan ``i`` are ``[offsets[i], offsets[i + 1])``. Implements the
+    plan interface that :func:`uq.sampling.engine.stream` reads.
+    """
+
+    designs: tuple
+    block_size: int = 4096
+
+    @property
+    def offsets(self) -> np.ndarray:
+        """First row of each plan, and the total, ``(len(designs) + 1,)``."""
+        return np.concatenate([[0], np.cumsum([d.n for d in self.designs])]).astype(int)
+
+    @property
+    def n(self) -> int:
+        return int(sum(d.n for d in self.designs))
+
+    @property
+    def dimension(self) -> int:
+        return int(self.designs[0].dimension)
+
+    @property
+    def n_blocks(self) -> int:
+        return -(-self.n // self.block_size)
+
+    def block_rows(self, block_index: int) -> tuple[int, int]:
+        start = block_index * self.block_size
+        return start, min(start + self.block_size, self.n)
+
+    def unit_points(self, start: int = 0, stop: int | None = None) -> np.ndarray:
+        stop = self.n if stop is None else stop
+        offsets = self.offsets
+        pieces = [d.unit_points(max(start, lo) - lo, min(stop, hi) - lo)
+                  for d, lo, hi in zip(self.designs, offsets[:-1], offsets[1:])
+                  if lo < stop and hi > start]
+        return pieces[0] if len(pieces) == 1 else np.concatenate(pieces)
 
 
 #: Per-thread Sobol' engine left where the last request stopped: (design, engine).

@@ -327,7 +327,7 @@ def _rare_events(scenario, settings: Settings, prop: Propagation, *, seed, execu
             ScenarioModel(scenario), input_model_of(scenario), reason=reason,
             plain_p_success=prop.p_success, confidence=settings.p_success_confidence,
             seed=seed, executor=executor, chunk_blocks=settings.chunk_blocks,
-            block_size=min(settings.block_size, 4096))
+            block_size=settings.evaluation_block)
     except estimators.EstimatorError as exc:
         cautions.append(f"Rare-event stage ({reason}) gave no estimate: {exc}; P(success) "
                         "is the main sample's.")

@@ -16,9 +16,9 @@ import numpy as np
 
 from uq import estimators
 from uq.decisions.outcome_table import outcome_table as tabulate_outcomes
-from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, stream
+from uq.sampling.engine import CollectReducer, GroupCountReducer, MultiReducer, stream
 from uq.sampling.inputs import InputModel
-from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, plan_size
+from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, StackedDesigns, plan_size
 from uq.scenario import Scenario
 from uq.simulate import Outcomes, ScenarioModel
 
@@ -53,6 +53,12 @@ class Settings:
     def p_success_confidence(self) -> float:
         """Confidence of the P(success) interval at one look under the sequential rule."""
         return estimators.SequentialRule(self.confidence, self.max_looks).per_look_confidence
+
+    @property
+    def evaluation_block(self) -> int:
+        """Rows per model call where the stage picks the rows (replicates stacked, Saltelli
+        and rare-event rows): ``block_size`` up to 4096, cache-sized for the transit model."""
+        return min(self.block_size, 4096)
 
     @property
     def samples_per_replicate(self) -> int:
@@ -167,29 +173,27 @@ def propagate(scenario: Scenario, settings: Settings, *, executor=None,
                      replicate=r, block_size=min(settings.block_size, per))
         for r in range(settings.replicates)
     )
-    pieces, counts, arrive_counts = [], [], []
-    done = 0
-    for design in designs:
-        reducer = MultiReducer({
-            "rows": CollectReducer(tuple(OUTPUT_KEYS) + ("inputs",), design.n),
-            "success": CountReducer("success"),
-            "arrived": CountReducer("reaches_recovery"),
-        })
-
-        def _progress(rows, _base=done):
-            if progress is not None:
-                progress(_base + rows)
-
-        result = stream(design, _DimensionGuard(model, d), reducer,
-                        input_model=input_model if d else None,
-                        chunk_blocks=settings.chunk_blocks, executor=executor,
-                        progress=_progress)
-        done += design.n
-        pieces.append(result["rows"])
-        counts.append((result["success"].count, result["success"].n))
-        arrive_counts.append((result["arrived"].count, result["arrived"].n))
-    outcomes = Outcomes.from_columns({k: np.concatenate([p[k] for p in pieces]) for k in OUTPUT_KEYS})
-    inputs = np.concatenate([p["inputs"] for p in pieces])[:, :d]
+    # the replicates stacked into one plan: the model sees blocks of evaluation_block rows
+    # (cache-sized, several replicates a call) instead of one small call per replicate; the
+    # rows and every count are the same as replicate by replicate
+    plan = StackedDesigns(designs, block_size=min(settings.evaluation_block, sum(
+        dz.n for dz in designs)))
+    offsets = plan.offsets
+    reducer = MultiReducer({
+        "rows": CollectReducer(tuple(OUTPUT_KEYS) + ("inputs",), plan.n),
+        "success": GroupCountReducer("success", offsets),
+        "arrived": GroupCountReducer("reaches_recovery", offsets),
+    })
+    result = stream(plan, _DimensionGuard(model, d), reducer,
+                    input_model=input_model if d else None,
+                    chunk_blocks=settings.chunk_blocks, executor=executor, progress=progress)
+    counts = [(c.count, c.n) for c in result["success"]]
+    arrive_counts = [(c.count, c.n) for c in result["arrived"]]
+    rows = result["rows"]
+    pieces = [{k: v[lo:hi] for k, v in rows.items()}
+              for lo, hi in zip(offsets[:-1], offsets[1:])]
+    outcomes = Outcomes.from_columns({k: rows[k] for k in OUTPUT_KEYS})
+    inputs = rows["inputs"][:, :d]
     conf = settings.confidence
     randomised = settings.scheme == "sobol"
     p_conf = settings.p_success_confidence

@@ -114,7 +114,7 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
     out = sens_est.evaluate_saltelli(
         design, ScenarioModel(scenario), ("range_km", "duration_days", "margin_Wh", "success"),
         input_model=input_model, executor=executor, chunk_blocks=settings.chunk_blocks,
-        block_size=min(settings.block_size, 4096))
+        block_size=settings.evaluation_block)
     outputs = {
         "range_km": out["range_km"],
         "duration_days": out["duration_days"],
