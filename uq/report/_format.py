@@ -11,9 +11,10 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["DASH", "finite_or_none", "json_safe", "Formatter"]
+__all__ = ["DASH", "MINUS", "finite_or_none", "json_safe", "Formatter"]
 
 DASH = "\u2014"
+MINUS = "\u2212"
 
 
 def finite_or_none(x: Any) -> float | None:
@@ -64,6 +65,7 @@ class Formatter:
         text = f"{v:,.{digits}f}"
         if text.startswith("-") and float(text.replace(",", "")) == 0.0:
             text = text[1:]
+        text = text.replace("-", MINUS)  # a real minus sign
         return f"{text} {unit}".rstrip() if unit else text
 
     def sig(self, x: Any, figures: int = 3, unit: str = "") -> str:
@@ -83,9 +85,17 @@ class Formatter:
 
     @staticmethod
     def _pct_text(v: float, digits: int) -> str:
+        """Percent with ``digits`` decimals; an estimate short of 1 never prints as 100
+        ("> 99.999"), one above 0 never as 0 ("< 0.001")."""
         if v in (0.0, 1.0):
             return f"{100.0 * v:.0f}"
-        return f"{100.0 * v:.{digits}f}"
+        text = f"{100.0 * v:.{digits}f}"
+        step = 10.0 ** -digits
+        if float(text) >= 100.0:
+            return f"> {100.0 - step:.{digits}f}"
+        if float(text) <= 0.0:
+            return f"< {step:.{digits}f}"
+        return text
 
     def pct(self, p: Any, digits: int | None = None) -> str:
         """Probability as a percentage; more digits near 0 and 1 ("100 %" when exact)."""
@@ -97,9 +107,10 @@ class Formatter:
         return f"{self._pct_text(v, digits)} %"
 
     def interval(self, low: Any, high: Any, digits: int = 2, unit: str = "") -> str:
-        """``low–high unit``; a dash for a missing end."""
+        """``low to high unit`` (real minus signs, never a double minus); a dash for a
+        missing end."""
         lo, hi = self.num(low, digits), self.num(high, digits)
-        text = f"{lo}\u2013{hi}"
+        text = f"{lo} to {hi}"
         return f"{text} {unit}".rstrip() if unit else text
 
     def money(self, x: Any, currency: str = "") -> str:
@@ -119,9 +130,9 @@ class Formatter:
         return format_money_interval(lo, hi, currency)
 
     def pct_interval(self, low: Any, high: Any) -> str:
-        """``low–high %`` with a common number of decimals."""
+        """``low to high %`` with a common number of decimals."""
         lo, hi = finite_or_none(low), finite_or_none(high)
         if lo is None or hi is None:
             return self._dash()
         digits = self._pct_digits(lo, hi)
-        return f"{self._pct_text(lo, digits)}\u2013{self._pct_text(hi, digits)} %"
+        return f"{self._pct_text(lo, digits)} to {self._pct_text(hi, digits)} %"
