@@ -46,7 +46,7 @@ def value_text(value, unit: str = "", *, percent: bool = False) -> str:
         median = value.median * (100.0 if percent else 1.0)  # 3 figures: an estimate's median
         head = (f"{_number(median, 3)} %" if percent
                 else f"{_number(median, 3)} {shown}".rstrip())
-        return f"{head} (median of {value.describe()})"
+        return f"{head} \u00b7 {value.describe()}"  # median, then the distribution
     v = float(value)
     if percent:
         return f"{_number(100.0 * v)} %"
@@ -183,9 +183,7 @@ def _battery(sc) -> PlanTable:
 def _decision(sc) -> PlanTable:
     d = sc.decision
     rows = [("Required P(success)", value_text(d.required_probability, percent=True)),
-            ("Confidence of the interval", value_text(d.confidence, percent=True)),
-            ("Verdict rule", "GO when the lower bound meets the requirement, NO-GO when the "
-                             "upper bound falls short, else UNDECIDED")]
+            ("Confidence of the interval", value_text(d.confidence, percent=True))]
     if math.isfinite(_med(sc.limits.max_duration_days)):
         rows.append(("Duration limit", value_text(sc.limits.max_duration_days, "day")))
     if d.ship_day_rate:
