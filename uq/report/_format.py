@@ -85,17 +85,11 @@ class Formatter:
 
     @staticmethod
     def _pct_text(v: float, digits: int) -> str:
-        """Percent with ``digits`` decimals; an estimate short of 1 never prints as 100
-        ("> 99.999"), one above 0 never as 0 ("< 0.001")."""
-        if v in (0.0, 1.0):
-            return f"{100.0 * v:.0f}"
-        text = f"{100.0 * v:.{digits}f}"
-        step = 10.0 ** -digits
-        if float(text) >= 100.0:
-            return f"> {100.0 - step:.{digits}f}"
-        if float(text) <= 0.0:
-            return f"< {step:.{digits}f}"
-        return text
+        """Percent with ``digits`` decimals by the one rounding rule
+        (:func:`uq.decisions._common.percent_number`: never "100.000" short of 1)."""
+        from uq.decisions._common import percent_number
+
+        return percent_number(v, digits)
 
     def pct(self, p: Any, digits: int | None = None) -> str:
         """Probability as a percentage; more digits near 0 and 1 ("100 %" when exact)."""

@@ -46,7 +46,7 @@ REQUIRED_KEYS = {
 FILES = ["index.html", "summary.json", "range_curve.csv", "sensitivity.csv", "tests.csv",
          "contingency.csv", "failures.csv", "inputs.csv"]
 FIGURES = ["range_curve", "failures", "sensitivity_range_km", "sensitivity_failure",
-           "contingency", "knowledge_band"]
+           "contingency", "knowledge_band", "energy_fan", "energy_split"]
 
 
 def _no_nan(text: str):
@@ -307,3 +307,14 @@ def test_failure_while_overwriting_keeps_the_old_report(demo, tmp_path, monkeypa
 def test_build_summary_is_json_without_nan(demo):
     text = json.dumps(build_summary(demo), allow_nan=False)
     assert math.isfinite(_no_nan(text)["p_success"]["estimate"])
+
+
+def test_board_sections_open_the_page_and_no_interval_has_a_double_minus(demo_report):
+    html = (demo_report / "index.html").read_text(encoding="utf-8")
+    order = [html.find(f'<section id="{s}">') for s in ("verdict", "plan", "energy", "range-curve")]
+    assert -1 not in order and order == sorted(order)
+    text = _visible(html)
+    # an interval of two negative numbers reads "-422 to -385", never "-422--385" or "-422–-385"
+    assert not re.search("[0-9][\u2013-][-\u2212][0-9]", text)
+    assert "The plan being judged" in text and "Energy along the route" in text
+    assert "100.000 %" not in text
