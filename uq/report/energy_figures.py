@@ -91,11 +91,14 @@ def energy_section(a, *, rows: int = DEFAULT_ROWS) -> EnergySection:
                          split_rows=tuple(split_rows), terms=terms, sentence=sentence)
 
 
-def fan_chart_figure(section: EnergySection, *, ax=None):
+def fan_chart_figure(section: EnergySection, *, ax=None, narrow: bool = False):
     """Remaining usable energy against distance: median, 50 % and 90 % bands, the reserve,
-    leg boundaries, ice legs shaded, arrival dates on the top axis. Returns the Figure."""
+    leg boundaries, ice legs shaded, arrival dates on the top axis. Returns the Figure.
+
+    ``narrow``: a smaller canvas for phone-width screens, so its labels stay readable."""
     prof = section.profile
-    fig, ax = _subplots((7.6, 4.4)) if ax is None else (ax.figure, ax)
+    size = (4.4, 3.8) if narrow else (7.6, 4.4)
+    fig, ax = _subplots(size) if ax is None else (ax.figure, ax)
     x = prof.planned_position_km()
     fan = prof.fan()
     flying = prof.flying()
@@ -128,7 +131,8 @@ def fan_chart_figure(section: EnergySection, *, ax=None):
     ax.grid(alpha=0.3)
     top = ax.secondary_xaxis("top")
     top.set_xticks(bounds[1:], [_text(section.date_text(d)) for d in section.leg_end_days],
-                   fontsize=7)
+                   fontsize=6.5 if narrow else 7, rotation=35 if narrow else 0,
+                   ha="left" if narrow else "center")
     top.set_xlabel("leg ends: arrival of the median-input vehicle", fontsize=8)
     for j, name in enumerate(prof.leg_names):
         ax.text(0.5 * (bounds[j] + bounds[j + 1]), 0.04, _text(name).replace("_", "\n"),
@@ -139,10 +143,13 @@ def fan_chart_figure(section: EnergySection, *, ax=None):
     return fig
 
 
-def energy_split_figure(section: EnergySection, *, ax=None):
-    """Mean energy drawn on each leg, stacked by term [Wh]. Returns the Figure."""
+def energy_split_figure(section: EnergySection, *, ax=None, narrow: bool = False):
+    """Mean energy drawn on each leg, stacked by term [Wh]. Returns the Figure.
+
+    ``narrow``: a smaller canvas for phone-width screens, legend below the bars."""
     rows = section.split_rows
-    fig, ax = _subplots((7.6, 0.55 * len(rows) + 1.5)) if ax is None else (ax.figure, ax)
+    size = (4.4, 0.5 * len(rows) + 2.2) if narrow else (7.6, 0.55 * len(rows) + 1.5)
+    fig, ax = _subplots(size) if ax is None else (ax.figure, ax)
     y = np.arange(len(rows))[::-1]
     left = np.zeros(len(rows))
     for term in section.terms:
@@ -152,9 +159,14 @@ def energy_split_figure(section: EnergySection, *, ax=None):
         ax.barh(y, values, left=left, color=_TERM_COLORS.get(term, _GREY), alpha=0.85,
                 label=TERM_LABELS.get(term, term), edgecolor="white", lw=0.5)
         left += values
-    ax.set_yticks(y, [_text(r["leg"]) for r in rows], fontsize=8)
+    labels = [_text(r["leg"]).replace("_", "\n" if narrow else "_") for r in rows]
+    ax.set_yticks(y, labels, fontsize=7 if narrow else 8)
     ax.set_xlabel("mean energy drawn [Wh]")
     ax.grid(axis="x", alpha=0.3)
-    ax.legend(fontsize=7.5, loc="lower right")
+    if narrow:
+        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.25), ncol=2,
+                  frameon=False)
+    else:
+        ax.legend(fontsize=7.5, loc="lower right")
     fig.tight_layout()
     return fig

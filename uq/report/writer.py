@@ -141,6 +141,8 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     for stem, make in (("energy_fan", energy_figures.fan_chart_figure),
                        ("energy_split", energy_figures.energy_split_figure)):
         images[stem] = _b64(fig_mod.save_figure(make(energy), figdir, stem))
+        images[stem + "_narrow"] = _b64(fig_mod.save_figure(make(energy, narrow=True), figdir,
+                                                            stem + "_narrow"))
     report_s = time.perf_counter() - t0
 
     _step(progress, "summary.json")

@@ -57,7 +57,7 @@ def _no_nan(text: str):
 
 def _visible(html: str) -> str:
     """The page without embedded images and style (base64 may contain any letters)."""
-    html = re.sub(r'src="data:[^"]*"', 'src=""', html)
+    html = re.sub(r'(src|srcset)="data:[^"]*"', 'src=""', html)
     return re.sub(r"<style>.*?</style>", "", html, flags=re.S)
 
 
