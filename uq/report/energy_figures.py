@@ -11,13 +11,14 @@ import datetime
 from dataclasses import dataclass
 
 import numpy as np
+import pandas as pd
 
 from uq.report.figures import _BLUE, _GREY, _ORANGE, _RED, _subplots, _text
 from uq.route_energy import DEFAULT_ROWS, FAN_QUANTILES, RouteEnergy, subsample_rows
 from uq.simulate import nominal_inputs, route_energy
 
 __all__ = ["EnergySection", "energy_section", "fan_chart_figure", "energy_split_figure",
-           "TERM_LABELS"]
+           "TERM_LABELS", "along_route_frame", "by_leg_frame"]
 
 #: how each energy term reads on the page
 TERM_LABELS = {"propulsion": "propulsion", "pump": "buoyancy pump", "hotel": "hotel and payload",
@@ -170,3 +171,29 @@ def energy_split_figure(section: EnergySection, *, ax=None, narrow: bool = False
         ax.legend(fontsize=7.5, loc="lower right")
     fig.tight_layout()
     return fig
+
+
+def along_route_frame(section: EnergySection) -> pd.DataFrame:
+    """The fan chart as a table (``energy_along_route.csv``): one row per profile column."""
+    prof = section.profile
+    fan = prof.fan()
+    flying = prof.flying()
+    reserve = np.where(flying, prof.reserve_Wh, np.nan)
+    count = flying.sum(axis=0)
+    frame = pd.DataFrame({
+        "distance_km": prof.planned_position_km(),
+        "leg": [prof.leg_names[j] for j in prof.column_leg],
+        "samples_flying": count,
+    })
+    for q, row in zip(FAN_QUANTILES, fan):
+        frame[f"usable_left_Wh_q{round(100 * q):02d}"] = row
+    frame["reserve_Wh_median"] = [float(np.nanmedian(reserve[:, k])) if count[k] else np.nan
+                                  for k in range(reserve.shape[1])]
+    return frame
+
+
+def by_leg_frame(section: EnergySection) -> pd.DataFrame:
+    """The per-leg split as a table (``energy_by_leg.csv``): mean energy drawn by term [Wh]."""
+    return pd.DataFrame([{"leg": r["leg"], **{f"{t.replace(' ', '_')}_Wh": r[t]
+                                             for t in section.terms},
+                          "total_Wh": r["total"]} for r in section.split_rows])

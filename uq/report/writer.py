@@ -143,6 +143,8 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
         images[stem] = _b64(fig_mod.save_figure(make(energy), figdir, stem))
         images[stem + "_narrow"] = _b64(fig_mod.save_figure(make(energy, narrow=True), figdir,
                                                             stem + "_narrow"))
+    _csv(energy_figures.along_route_frame(energy), folder / "energy_along_route.csv")
+    _csv(energy_figures.by_leg_frame(energy), folder / "energy_by_leg.csv")
     report_s = time.perf_counter() - t0
 
     _step(progress, "summary.json")

@@ -44,7 +44,8 @@ REQUIRED_KEYS = {
     "timings_s": dict,
 }
 FILES = ["index.html", "summary.json", "range_curve.csv", "sensitivity.csv", "tests.csv",
-         "contingency.csv", "failures.csv", "inputs.csv"]
+         "contingency.csv", "failures.csv", "inputs.csv", "energy_along_route.csv",
+         "energy_by_leg.csv"]
 FIGURES = ["range_curve", "failures", "sensitivity_range_km", "sensitivity_failure",
            "contingency", "knowledge_band", "energy_fan", "energy_split"]
 
