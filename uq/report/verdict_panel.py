@@ -150,8 +150,9 @@ def _closeness(v, p, fmt: Formatter) -> tuple[str, str]:
         return "narrow", (f"NO-GO, but narrowly: the upper bound {fmt.pct(hi)} is only {points} "
                           f"short of the required {fmt.pct(req)}; a small change to the plan "
                           "may make it GO.")
-    return "clear", (f"NO-GO by a wide margin: even the upper bound, {fmt.pct(hi)}, is {points}"
-                     f" short of the required {fmt.pct(req)}.")
+    wide = " by a wide margin" if gap >= 4 * band else ""
+    return "clear", (f"NO-GO{wide}: even the upper bound, {fmt.pct(hi)}, is {points} short of "
+                     f"the required {fmt.pct(req)}.")
 
 
 def _lost(a, fmt: Formatter) -> tuple[str, str] | None:
@@ -172,6 +173,19 @@ def _lost(a, fmt: Formatter) -> tuple[str, str] | None:
     return label, text
 
 
+def _lever_text(g) -> str:
+    """One lever of the requirement search in a line: "nominal battery energy at least
+    16,534 Wh (now 16,000 Wh)"; its own sentence when no value was found."""
+    if g.required_value is None:
+        return g.sentence
+
+    def val(x):
+        text = f"{x:,.0f}" if abs(x) >= 1000 else f"{x:.4g}"
+        return f"{text} {g.unit}".rstrip().replace("-", "\u2212")
+
+    return f"{g.label} {g.direction} {val(g.required_value)} (now {val(g.current_value)})"
+
+
 def verdict_panel(a: Any, fmt: Formatter | None = None) -> VerdictPanel:
     """The panel of assessment ``a`` (see the module docstring)."""
     fmt = fmt or Formatter()
@@ -182,7 +196,7 @@ def verdict_panel(a: Any, fmt: Formatter | None = None) -> VerdictPanel:
         f"{fmt.pct(1.0 - p.estimate)} of the sampled deployments fail "
         f"({fmt.pct_interval(1.0 - p.upper, 1.0 - p.lower)}); the requirement allows "
         f"{fmt.pct(1.0 - v.required_probability)}.")
-    go = tuple(g.sentence for g in (getattr(a, "go_requirements", None) or ()))
+    go = tuple(_lever_text(g) for g in (getattr(a, "go_requirements", None) or ()))
     return VerdictPanel(
         verdict=v.verdict, word=WORDS.get(v.verdict, v.verdict.upper()), closeness=closeness,
         closeness_sentence=sentence,

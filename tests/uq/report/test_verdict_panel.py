@@ -110,3 +110,21 @@ def test_plan_states_every_number_with_its_unit():
     assert dict(zip(header, plan.route.rows[0]))["Ice ceiling"] == "open water"
     assert plan.route.total[:2] == ("Route", "200 km") and plan.route.total[-1] == "day 1.7"
     assert "50 km under ice" in plan.headline and "20 % kept in reserve" in plan.headline
+
+
+def test_a_moderate_miss_is_plain_and_levers_read_in_one_line():
+    a = _assessment("no-go", _p(0.829, 0.823, 0.834), 0.9)
+    a.go_requirements = (
+        NS(label="nominal battery energy", unit="Wh", direction="at least", current_value=16000.0,
+           required_value=16534.2, sentence="long"),
+        NS(label="reserve fraction", unit="", direction="at most", current_value=0.15,
+           required_value=0.1218, sentence="long"),
+        NS(label="net buoyancy", unit="N", direction="at least", current_value=1.6,
+           required_value=None, sentence="No net buoyancy gives GO on its own."))
+    panel = verdict_panel(a)
+    # derived: 90 % - 83.4 % = 6.6 points: more than the near band (2.5) but under 4 x 2.5
+    assert panel.closeness_sentence == ("NO-GO: even the upper bound, 83.4 %, is 6.6 percentage "
+                                        "points short of the required 90.0 %.")
+    assert panel.go_sentences == ("nominal battery energy at least 16,534 Wh (now 16,000 Wh)",
+                                  "reserve fraction at most 0.1218 (now 0.15)",
+                                  "No net buoyancy gives GO on its own.")
