@@ -116,8 +116,15 @@ class RouteEnergy:
         return out
 
     def mean_split_Wh(self) -> dict[str, np.ndarray]:
-        """Mean over samples of the energy drawn on each leg by term [Wh], (J,) each; plus
-        ``recovery point`` (loiter and homing) as a single number in a (1,) array."""
-        out = {k: np.mean(v, axis=0) for k, v in self.leg_split_Wh.items()}
-        out["recovery point"] = np.array([float(np.mean(self.recovery_point_Wh))])
+        """Mean over the samples that did not turn back of the energy drawn on each leg by
+        term [Wh], (J,) each, plus ``recovery point`` (loiter and homing) as a (1,) array.
+
+        A vehicle that turned back is left out: its profile is the forward flight it
+        abandoned, not the flight it made (all zeros when every sample turned back)."""
+        keep = ~self.turned_back
+        if not keep.any():
+            return {**{k: np.zeros(v.shape[1]) for k, v in self.leg_split_Wh.items()},
+                    "recovery point": np.zeros(1)}
+        out = {k: np.mean(v[keep], axis=0) for k, v in self.leg_split_Wh.items()}
+        out["recovery point"] = np.array([float(np.mean(self.recovery_point_Wh[keep]))])
         return out

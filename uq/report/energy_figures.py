@@ -21,7 +21,8 @@ __all__ = ["EnergySection", "energy_section", "fan_chart_figure", "energy_split_
            "TERM_LABELS", "along_route_frame", "by_leg_frame"]
 
 #: how each energy term reads on the page
-TERM_LABELS = {"propulsion": "propulsion", "pump": "buoyancy pump", "hotel": "hotel and payload",
+TERM_LABELS = {"propulsion": "propulsion", "pump": "buoyancy pump",
+               "hotel": "hotel load (sensors, computer, payload)",
                "inflections": "inflections", "surfacing": "surfacing (fix and link)",
                "recovery point": "loiter and homing at the recovery point"}
 _TERM_COLORS = {"propulsion": _BLUE, "pump": _BLUE, "hotel": _ORANGE, "inflections": "#6a3d9a",
@@ -39,6 +40,7 @@ class EnergySection:
     leg_end_days: np.ndarray  # median-input arrival at each leg's end [d], (J,)
     start_date: datetime.date | None
     split_rows: tuple[dict, ...]  # per leg: name, each term [Wh], total [Wh]
+    split_samples: int  # re-flown samples behind the split (those that did not turn back)
     terms: tuple[str, ...]
     sentence: str
 
@@ -89,7 +91,9 @@ def energy_section(a, *, rows: int = DEFAULT_ROWS) -> EnergySection:
                    "none reaches the recovery point."))
     return EnergySection(profile=prof, rows=index, samples=a.propagation.samples,
                          leg_end_days=leg_end_days, start_date=sc.decision.deployment_date,
-                         split_rows=tuple(split_rows), terms=terms, sentence=sentence)
+                         split_rows=tuple(split_rows),
+                         split_samples=int((~prof.turned_back).sum()), terms=terms,
+                         sentence=sentence)
 
 
 def fan_chart_figure(section: EnergySection, *, ax=None, narrow: bool = False):

@@ -167,6 +167,9 @@ def _lost(a, fmt: Formatter) -> tuple[str, str] | None:
     text = (f"{fmt.pct(p.estimate)} ({fmt.pct(p.confidence, 0)} CI "
             f"{fmt.pct_interval(p.lower, p.upper)}; {row.count:,} of {table.samples:,} samples"
             f"{'' if ice else ': ' + OUTCOME_CLASS_NAMES[code].split('(')[-1].rstrip(')')})")
+    other = table.row(OutcomeClass.LOST)
+    if ice and other.count:
+        text += f"; lost in open water {fmt.pct(other.probability.estimate)}"
     if table.hardware is not None:
         hw = table.hardware.lost_any_cause
         text += f"; with hardware faults {fmt.pct(hw.estimate)}"
