@@ -139,11 +139,18 @@ def fan_chart_figure(section: EnergySection, *, ax=None, narrow: bool = False):
                    fontsize=6.5 if narrow else 7, rotation=35 if narrow else 0,
                    ha="left" if narrow else "center")
     top.set_xlabel("leg ends: arrival of the median-input vehicle", fontsize=8)
-    for j, name in enumerate(prof.leg_names):
-        ax.text(0.5 * (bounds[j] + bounds[j + 1]), 0.04, _text(name).replace("_", "\n"),
-                transform=ax.get_xaxis_transform(), ha="center", va="bottom", fontsize=7,
-                color="#333333", linespacing=0.95)
-    ax.legend(loc="upper right", fontsize=7.5)
+    if narrow:  # legs numbered (the route table names them), legend under the axes
+        for j in range(len(prof.leg_names)):
+            ax.text(0.5 * (bounds[j] + bounds[j + 1]), 0.03, f"leg {j + 1}", fontsize=7,
+                    transform=ax.get_xaxis_transform(), ha="center", va="bottom", color="#333333")
+        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, fontsize=7,
+                  frameon=False)
+    else:
+        for j, name in enumerate(prof.leg_names):
+            ax.text(0.5 * (bounds[j] + bounds[j + 1]), 0.04, _text(name).replace("_", "\n"),
+                    transform=ax.get_xaxis_transform(), ha="center", va="bottom", fontsize=7,
+                    color="#333333", linespacing=0.95)
+        ax.legend(loc="upper right", fontsize=7.5)
     fig.tight_layout()
     return fig
 

@@ -213,7 +213,8 @@ def _route(sc, arrival_days=None) -> RouteTable:
             extra = ("never (ice)" if leg.under_ice else
                      f"every {value_text(leg.dives_per_surfacing)} dives"
                      if leg.dives_per_surfacing is not None else "never")
-        row = [leg.name, value_text(leg.length_km, "km"), value_text(leg.current_along_m_s, "m/s"),
+        row = [f"{j + 1}. {leg.name}", value_text(leg.length_km, "km"),
+               value_text(leg.current_along_m_s, "m/s"),
                value_text(leg.current_across_m_s, "m/s"), water, ice, seabed, extra]
         if arrival_days is not None:
             row.append(_day_text(arrival_days[j], sc.decision.deployment_date))
