@@ -11,10 +11,9 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["DASH", "MINUS", "finite_or_none", "json_safe", "Formatter"]
+__all__ = ["DASH", "finite_or_none", "json_safe", "Formatter"]
 
 DASH = "\u2014"
-MINUS = "\u2212"
 
 
 def finite_or_none(x: Any) -> float | None:
@@ -47,6 +46,10 @@ def json_safe(obj: Any) -> Any:
     return str(obj)
 
 
+#: the minus sign of typeset numbers (U+2212), so that "−3 to −1" never reads as a dash
+MINUS = "\u2212"
+
+
 class Formatter:
     """Formats numbers for the page; remembers whether it had to print a dash."""
 
@@ -65,7 +68,6 @@ class Formatter:
         text = f"{v:,.{digits}f}"
         if text.startswith("-") and float(text.replace(",", "")) == 0.0:
             text = text[1:]
-        text = text.replace("-", MINUS)  # a real minus sign
         return f"{text} {unit}".rstrip() if unit else text
 
     def sig(self, x: Any, figures: int = 3, unit: str = "") -> str:
@@ -101,10 +103,13 @@ class Formatter:
         return f"{self._pct_text(v, digits)} %"
 
     def interval(self, low: Any, high: Any, digits: int = 2, unit: str = "") -> str:
-        """``low to high unit`` (real minus signs, never a double minus); a dash for a
-        missing end."""
+        """``low–high unit``; ``−a to −b unit`` when an end is negative (never a double
+        minus); a dash for a missing end."""
         lo, hi = self.num(low, digits), self.num(high, digits)
-        text = f"{lo} to {hi}"
+        if lo.startswith("-") or hi.startswith("-"):
+            text = f"{lo.replace('-', MINUS)} to {hi.replace('-', MINUS)}"
+        else:
+            text = f"{lo}\u2013{hi}"
         return f"{text} {unit}".rstrip() if unit else text
 
     def money(self, x: Any, currency: str = "") -> str:
@@ -124,9 +129,9 @@ class Formatter:
         return format_money_interval(lo, hi, currency)
 
     def pct_interval(self, low: Any, high: Any) -> str:
-        """``low to high %`` with a common number of decimals."""
+        """``low–high %`` with a common number of decimals."""
         lo, hi = finite_or_none(low), finite_or_none(high)
         if lo is None or hi is None:
             return self._dash()
         digits = self._pct_digits(lo, hi)
-        return f"{self._pct_text(lo, digits)} to {self._pct_text(hi, digits)} %"
+        return f"{self._pct_text(lo, digits)}\u2013{self._pct_text(hi, digits)} %"

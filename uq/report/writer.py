@@ -35,8 +35,8 @@ __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write
 
 #: ids of the report's sections, in page order (sweep, comparison and glide polar only when
 #: they apply)
-SECTION_IDS = ("verdict", "plan", "energy", "range-curve", "failures", "sensitivity", "tests", "contingency",
-               "sweep", "comparison", "glide-polar", "inputs", "surrogate", "baseline",
+SECTION_IDS = ("verdict", "plan", "energy", "range-curve", "failures", "sensitivity", "tests",
+               "contingency", "sweep", "comparison", "glide-polar", "inputs", "surrogate", "baseline",
                "assumptions", "cautions", "run-record")
 
 CAUTIONS = (
@@ -134,17 +134,10 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     _write_tables(a, folder, sweep=sweep, sweep_summary=sweep_summary, comparison=comparison,
                   pair=pair)
     write_sample_exports(a, folder)  # samples.nc / samples.parquet with the ocean extra
+    energy, energy_images = _energy_along_route(a, folder, figdir, progress)
 
     _step(progress, "figures")
     images = _make_figures(a, figdir, sweep_summary=sweep_summary)
-    energy = energy_figures.energy_section(a)  # a bounded subsample re-flown
-    for stem, make in (("energy_fan", energy_figures.fan_chart_figure),
-                       ("energy_split", energy_figures.energy_split_figure)):
-        images[stem] = _b64(fig_mod.save_figure(make(energy), figdir, stem))
-        images[stem + "_narrow"] = _b64(fig_mod.save_figure(make(energy, narrow=True), figdir,
-                                                            stem + "_narrow"))
-    _csv(energy_figures.along_route_frame(energy), folder / "energy_along_route.csv")
-    _csv(energy_figures.by_leg_frame(energy), folder / "energy_by_leg.csv")
     report_s = time.perf_counter() - t0
 
     _step(progress, "summary.json")
@@ -153,9 +146,26 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     write_json(folder / "summary.json", summary)
 
     _step(progress, "index.html")
-    html = render_html(a, images=images, sweep_summary=sweep_summary, pair=pair,
-                       extra_timings={"report_tables_and_figures": report_s}, energy=energy)
+    html = render_html(a, images={**images, **energy_images}, sweep_summary=sweep_summary,
+                       pair=pair, extra_timings={"report_tables_and_figures": report_s},
+                       energy=energy)
     (folder / "index.html").write_text(html, encoding="utf-8")
+
+
+def _energy_along_route(a, folder: Path, figdir: Path, progress):
+    """The energy section: a bounded subsample re-flown, its CSVs and figures (a narrow
+    variant of each for phone-width screens); returns the section and base64 PNGs."""
+    _step(progress, "energy along the route")
+    energy = energy_figures.energy_section(a)
+    _csv(energy_figures.along_route_frame(energy), folder / "energy_along_route.csv")
+    _csv(energy_figures.by_leg_frame(energy), folder / "energy_by_leg.csv")
+    images = {}
+    for stem, make in (("energy_fan", energy_figures.fan_chart_figure),
+                       ("energy_split", energy_figures.energy_split_figure)):
+        images[stem] = _b64(fig_mod.save_figure(make(energy), figdir, stem))
+        images[stem + "_narrow"] = _b64(fig_mod.save_figure(make(energy, narrow=True), figdir,
+                                                            stem + "_narrow"))
+    return energy, images
 
 
 # ------------------------------------------------------------------------ tables

@@ -162,7 +162,7 @@ def test_formatter_prints_a_dash_for_missing_numbers():
     f = Formatter()
     assert f.num(float("nan"), 1, "km") == DASH
     assert f.pct(None) == DASH
-    assert f.interval(1.0, float("inf"), 1, "km") == f"1.0 to {DASH} km"
+    assert f.interval(1.0, float("inf"), 1, "km") == f"1.0\u2013{DASH} km"
     assert f.dashes == 3
     assert f.pct(1.0) == "100 %" and f.pct(0.5) == "50.0 %"
 
@@ -175,7 +175,7 @@ def test_formatter_never_prints_a_double_minus_or_a_rounded_certainty():
     # an estimate of 0.9999996 is not certainty: it prints below 100 % at 3 decimals
     assert f.pct(0.9999996) == "> 99.999 %"
     assert f.pct(4e-7) == "< 0.001 %"
-    assert f.pct_interval(0.9461, 0.9489) == "94.6 to 94.9 %"
+    assert f.pct_interval(0.9461, 0.9489) == "94.6\u201394.9 %"
 
 
 def test_glider_report_has_the_glide_polar(tmp_path):
