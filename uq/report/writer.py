@@ -29,6 +29,7 @@ from uq.report.pages import render_page
 from uq.report.summary import build_summary, nominal_dict, run_cautions
 from uq.report.exports import write_sample_exports
 from uq.simulate import glide_operating_point
+from uq.studies.rare import when_it_runs
 
 __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write_report",
            "CAUTIONS", "MODEL_ASSUMPTIONS", "SECTION_IDS"]
@@ -36,8 +37,8 @@ __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write
 #: ids of the report's sections, in page order (sweep, comparison and glide polar only when
 #: they apply)
 SECTION_IDS = ("verdict", "plan", "energy", "range-curve", "failures", "sensitivity", "tests",
-               "contingency", "sweep", "comparison", "glide-polar", "inputs", "surrogate", "baseline",
-               "assumptions", "cautions", "run-record")
+               "contingency", "sweep", "comparison", "glide-polar", "inputs", "surrogate",
+               "baseline", "estimators", "assumptions", "cautions", "run-record")
 
 CAUTIONS = (
     "This report is a planning aid, not a guarantee: the probabilities are only as good as "
@@ -295,7 +296,7 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         panel=verdict_panel(a, fmt), energy=energy, term_labels=energy_figures.TERM_LABELS,
         plan=plan_summary(sc, arrival_days=energy.leg_end_days),
         cautions=CAUTIONS, run_cautions=run_cautions(a), assumptions=MODEL_ASSUMPTIONS,
-        timings=timings,
+        timings=timings, rare_event_rule=when_it_runs(),
         total_time=sum(timings.values()),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
         censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),

@@ -27,7 +27,7 @@ from uq.decisions.outcomes import OutcomeClass, classify_outcomes
 from uq.estimators.rare_events import RareEventEstimate, failure_limit_state, subset_simulation
 
 __all__ = ["RARE_EVENT_MODES", "MIN_PLAIN_FAILURES", "DEMANDING_REQUIREMENT", "RareEventStage",
-           "rare_event_reason", "rare_event_stage", "with_rare_events"]
+           "rare_event_reason", "rare_event_stage", "with_rare_events", "when_it_runs"]
 
 #: ``[analysis] rare_events``: when the subset-simulation stage runs
 RARE_EVENT_MODES = ("auto", "always", "off")
@@ -88,6 +88,14 @@ class RareEventStage:
                 "p_fail": self.failure.to_dict(),
                 "p_success": self.p_success.to_dict(),
                 "plain_p_success": self.plain_p_success.to_dict()}
+
+
+def when_it_runs() -> str:
+    """The automatic rule of :func:`rare_event_reason` in one sentence, for the report."""
+    return (f"with [analysis] rare_events = \"auto\" it runs when fewer than "
+            f"{MIN_PLAIN_FAILURES} samples fail and the main sample's upper bound on P(fail) "
+            f"is below {LEVEL_PROBABILITY:g}, or when the requirement is "
+            f"{100 * DEMANDING_REQUIREMENT:.1f} % or more and the main sample does not settle it")
 
 
 def rare_event_reason(mode: str, *, failures: int, samples: int, p_success,

@@ -8,6 +8,8 @@ X = ln E - ln C_D - ln A ~ N(mu, 3 s^2), success iff 0.8 E >= W (20 % reserve) a
 the recovery point iff E >= W, so P(fail) = Phi((ln(W_1 / 0.8) - mu) / (s sqrt 3)) and
 P(reserve breach) = P(fail) - Phi((ln W_1 - mu) / (s sqrt 3)).
 """
+from collections import defaultdict
+
 import numpy as np
 import pytest
 from scipy import stats
@@ -95,6 +97,14 @@ def test_a_demanding_requirement_brings_in_subset_simulation_at_1e_4(monkeypatch
     assert summary["estimators"] == named
     assert summary["rare_events"]["p_fail"]["estimate"] == a.rare_events.failure.probability.estimate
     assert "subset simulation" in summary["p_success"]["method"]
+    # the report names the estimator of each number and shows the plain estimate beside it
+    from uq.report.writer import render_html
+
+    page = render_html(a, images=defaultdict(str))  # no figures drawn
+    section = page[page.index('<section id="estimators">'):]
+    section = section[:section.index("</section>")]
+    assert "by subset simulation" in section and "the main sample alone gave" in section
+    assert named["outcomes.reserve_breach"] in section
 
 
 def test_the_stage_runs_only_when_asked_or_needed():
@@ -102,6 +112,10 @@ def test_the_stage_runs_only_when_asked_or_needed():
     common, _ = _shortfall_scenario(0.3, required=0.5)
     a = assess(common, samples=256, sensitivity_base_n=0)
     assert a.rare_events is None and "subset" not in a.estimators()["p_success"]
+    from uq.report.writer import render_html
+
+    page = render_html(a, images=defaultdict(str))  # no figures drawn
+    assert "The rare-event stage (subset simulation) did not run" in page
     # "off" keeps the plain estimate even where the stage would help
     rare, _ = _shortfall_scenario(1e-4, rare_events="off")
     assert assess(rare, samples=256, sensitivity_base_n=0).rare_events is None
