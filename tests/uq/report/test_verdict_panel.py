@@ -40,9 +40,9 @@ def test_a_near_miss_does_not_read_like_a_wide_miss():
     # derived: 95 % - 94.9 % = 0.1 point; 95 % - 31.4 % = 63.6 points
     assert "narrowly" in near.closeness_sentence and "0.1 percentage points" in near.closeness_sentence
     assert "wide margin" in far.closeness_sentence and "63.6 percentage points" in far.closeness_sentence
-    assert near.p_success == "94.6 % (95 % CI 94.2 to 94.9 %)"
+    assert near.p_success == "94.6 % (95 % CI 94.2\u201394.9 %)"
     # the failure share is the complement of the one P(success) interval
-    assert near.failure_sentence.startswith("5.4 % of the sampled deployments fail (5.1 to 5.8 %)")
+    assert near.failure_sentence.startswith("5.4 % of the sampled deployments fail (5.1\u20135.8 %)")
 
 
 def test_straddling_interval_says_too_close_to_call():
