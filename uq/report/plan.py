@@ -182,7 +182,9 @@ def _battery(sc) -> PlanTable:
 
 def _decision(sc) -> PlanTable:
     d = sc.decision
-    rows = [("Required P(success)", value_text(d.required_probability, percent=True)),
+    # "P(success) <number>" on a page always means the estimate: the requirement is worded
+    # so that it never reads like one
+    rows = [("P(success) required, at least", value_text(d.required_probability, percent=True)),
             ("Confidence of the interval", value_text(d.confidence, percent=True))]
     if math.isfinite(_med(sc.limits.max_duration_days)):
         rows.append(("Duration limit", value_text(sc.limits.max_duration_days, "day")))
@@ -262,7 +264,8 @@ def plan_summary(scenario, *, arrival_days=None) -> Plan:
                 f" in {len(sc.legs)} legs{f', {_number(ice_km)} km under ice' if ice_km else ''}, "
                 f"{how}, on {value_text(sc.battery.nominal_energy_Wh, 'Wh')} nominal with "
                 f"{value_text(sc.battery.reserve_fraction, percent=True)} kept in reserve; "
-                f"required P(success) {value_text(sc.decision.required_probability, percent=True)}"
-                f" at {value_text(sc.decision.confidence, percent=True)} confidence.")
+                f"P(success) required to be at least "
+                f"{value_text(sc.decision.required_probability, percent=True)}, judged at "
+                f"{value_text(sc.decision.confidence, percent=True)} confidence.")
     return Plan(tables=(_vehicle(sc), _setpoints(sc), _battery(sc), _decision(sc)),
                 route=_route(sc, arrival_days), headline=headline)

@@ -102,7 +102,7 @@ def test_plan_states_every_number_with_its_unit():
     assert rows["Hotel load"] == f"{median:.1f} W \u00b7 PERT(25, 30, 45)"
     assert rows["Speed through water"] == "1.3 m/s" and rows["Nominal energy"] == "9,000 Wh"
     assert rows["Reserve kept on arrival (policy)"] == "20 %"
-    assert rows["Reference area"] == "0.25 m\u00b2" and rows["Required P(success)"] == "90 %"
+    assert rows["Reference area"] == "0.25 m\u00b2" and rows["P(success) required, at least"] == "90 %"
     header = plan.route.header
     ice = dict(zip(header, plan.route.rows[1]))
     assert ice["Length"] == "50 km" and ice["Ice ceiling"] == "20 m"
