@@ -118,7 +118,8 @@ class VerdictPanel:
     word: str
     closeness: str  # "clear" | "narrow" | "straddles"
     closeness_sentence: str
-    p_success: str  # "83.0 % (95 % CI 81.7 to 84.2 %)"
+    p_success: str  # "83.0 % (95 % CI 81.7–84.2 %)"
+    level: str  # confidence level of the P(success) interval, "95 %"
     required: str
     failure_sentence: str  # share failing against the share allowed
     lost: tuple[str, str] | None  # (label, value text)
@@ -128,10 +129,15 @@ class VerdictPanel:
     zoom: Gauge
 
 
+def _level(p) -> str:
+    """Confidence level as written ("95 %", "97.5 %" under a sequential rule's looks)."""
+    return f"{100.0 * p.confidence:.4g} %"
+
+
 def _closeness(v, p, fmt: Formatter) -> tuple[str, str]:
     req, lo, hi = v.required_probability, float(p.lower), float(p.upper)
     band = near_band(req)
-    ci = f"{fmt.pct(p.confidence, 0)} interval {fmt.pct_interval(lo, hi)}"
+    ci = f"{_level(p)} interval {fmt.pct_interval(lo, hi)}"
     if v.verdict == "undecided":
         more = (f" About {v.additional_samples:,} more samples would settle it."
                 if v.additional_samples else "")
@@ -164,7 +170,7 @@ def _lost(a, fmt: Formatter) -> tuple[str, str] | None:
     row = table.row(code)
     p = row.probability
     label = "P(lost under ice)" if ice else "P(lost)"
-    text = (f"{fmt.pct(p.estimate)} ({fmt.pct(p.confidence, 0)} CI "
+    text = (f"{fmt.pct(p.estimate)} ({_level(p)} CI "
             f"{fmt.pct_interval(p.lower, p.upper)}; {row.count:,} of {table.samples:,} samples"
             f"{'' if ice else ': ' + OUTCOME_CLASS_NAMES[code].split('(')[-1].rstrip(')')})")
     other = table.row(OutcomeClass.LOST)
@@ -203,9 +209,10 @@ def verdict_panel(a: Any, fmt: Formatter | None = None) -> VerdictPanel:
     return VerdictPanel(
         verdict=v.verdict, word=WORDS.get(v.verdict, v.verdict.upper()), closeness=closeness,
         closeness_sentence=sentence,
-        p_success=(f"{fmt.pct(p.estimate)} ({fmt.pct(p.confidence, 0)} CI "
+        p_success=(f"{fmt.pct(p.estimate)} ({_level(p)} CI "
                    f"{fmt.pct_interval(p.lower, p.upper)})"),
-        required=fmt.pct(v.required_probability), failure_sentence=failure_sentence,
+        level=_level(p), required=fmt.pct(v.required_probability),
+        failure_sentence=failure_sentence,
         lost=_lost(a, fmt),
         reason=dominant_failure(a.propagation.outcomes, [leg.name for leg in a.scenario.legs],
                                 fmt),
