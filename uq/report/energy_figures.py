@@ -81,14 +81,20 @@ def energy_section(a, *, rows: int = DEFAULT_ROWS) -> EnergySection:
         terms = terms + ("recovery point",)
     for row in split_rows:
         row.setdefault("recovery point", 0.0)
-    arrived = prof.arrived & ~prof.turned_back
-    end = prof.end_above_reserve_Wh[arrived]
+    # the one arrival rule (Outcomes.reaches_recovery) of the assessment, for the same rows
+    reached = np.asarray(a.propagation.outcomes["reaches_recovery"], dtype=bool)[index]
+    end = prof.end_above_reserve_Wh[reached]
     sentence = (f"{index.size:,} of the {a.propagation.samples:,} samples re-flown: "
                 + (f"of those that reach the recovery point, the median arrives with "
                    f"{_wh(np.median(end))} above the reserve after loiter and homing "
                    f"(5\u201395 %: {_wh(np.quantile(end, 0.05))} to "
                    f"{_wh(np.quantile(end, 0.95))})." if end.size else
                    "none reaches the recovery point."))
+    short = prof.turned_back | ~prof.arrived
+    if short.any():
+        where = np.where(prof.turned_back, prof.turn_position_km, prof.position_km[:, -1])[short]
+        sentence += (f" {int(short.sum()):,} turned back or stopped short of it, between "
+                     f"{where.min():,.0f} and {where.max():,.0f} km along the route.")
     return EnergySection(profile=prof, rows=index, samples=a.propagation.samples,
                          leg_end_days=leg_end_days, start_date=sc.decision.deployment_date,
                          split_rows=tuple(split_rows),
