@@ -182,6 +182,29 @@ class GliderRates:
     _clean_trim: dict = field(default_factory=dict, init=False, repr=False, compare=False)
 
     def __call__(self, leg: int, phi: np.ndarray) -> VehicleRates:
+        trim, cycle, clean, state = self.cycle_at(leg, phi)
+        n_dives = _on_leg(self.dives_per_surfacing, leg)
+        surfaces = np.isfinite(n_dives) & (n_dives > 0)
+        trimmed = trim.state == _glide.GLIDE_OK
+        # re-trimmed for fouling: 10 % more net buoyancy or 0.5 deg steeper than the clean
+        # vehicle would fly on this leg (thresholds: a reporting choice)
+        for_fouling = trimmed & ((trim.net_buoyancy > 1.1 * clean.net_buoyancy)
+                                 | (trim.glide_angle > clean.glide_angle + _RETRIM_ANGLE))
+        flags = (np.where(for_fouling, FlightEvent.RETRIMMED, 0)
+                 | np.where(trim.at_limit, FlightEvent.AT_ENGINE_LIMIT, 0))
+        time = np.where(cycle.time > 0, cycle.time, np.inf)
+        return VehicleRates(
+            cycle.mean_power, cycle.mean_horizontal_speed, state,
+            drift_along=cycle.surface_fraction * _on_leg(self.surface_drift_along, leg),
+            drift_across=cycle.surface_fraction * _on_leg(self.surface_drift_across, leg),
+            flags=flags.astype(np.int8),
+            surfacing_rate=np.where(surfaces, 1.0 / (np.where(surfaces, n_dives, 1.0) * time),
+                                    0.0),
+        )
+
+    def cycle_at(self, leg: int, phi: np.ndarray):
+        """The trim, the dive cycle, the clean vehicle's trim and the stop state on leg
+        ``leg`` at fouling ``phi`` (what :meth:`__call__` and the energy split both read)."""
         cd0 = self.zero_lift_drag * _drag.fouling_drag_multiplier(phi, self.drag_increase)
         k = _lift.fouled_induced_drag_factor(self.induced_drag_factor, self.lift_loss * phi)
         top = self.top_depth[:, leg]
@@ -235,21 +258,7 @@ class GliderRates:
                               FailureMode.CANNOT_HOLD_FLIGHT),
             np.where(trimmed & (band > 0) & (cycle.time > 0), FailureMode.NONE,
                      FailureMode.INFEASIBLE_GLIDE)).astype(np.int8)
-        # re-trimmed for fouling: 10 % more net buoyancy or 0.5 deg steeper than the clean
-        # vehicle would fly on this leg (thresholds: a reporting choice)
-        for_fouling = trimmed & ((trim.net_buoyancy > 1.1 * clean.net_buoyancy)
-                                 | (trim.glide_angle > clean.glide_angle + _RETRIM_ANGLE))
-        flags = (np.where(for_fouling, FlightEvent.RETRIMMED, 0)
-                 | np.where(trim.at_limit, FlightEvent.AT_ENGINE_LIMIT, 0))
-        time = np.where(cycle.time > 0, cycle.time, np.inf)
-        return VehicleRates(
-            cycle.mean_power, cycle.mean_horizontal_speed, state,
-            drift_along=cycle.surface_fraction * _on_leg(self.surface_drift_along, leg),
-            drift_across=cycle.surface_fraction * _on_leg(self.surface_drift_across, leg),
-            flags=flags.astype(np.int8),
-            surfacing_rate=np.where(surfaces, 1.0 / (np.where(surfaces, n_dives, 1.0) * time),
-                                    0.0),
-        )
+        return trim, cycle, clean, state
 
 
 _RETRIM_ANGLE = np.deg2rad(0.5)

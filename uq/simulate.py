@@ -16,11 +16,12 @@ import pandas as pd
 from scipy import optimize
 
 from physics import battery as cells
-from physics import (buoyancy_engine, currents, drag, glide, lift, mission, propulsion,
-                     seawater, turnback)
+from physics import (buoyancy_engine, currents, drag, energy_split, glide, lift, mission,
+                     propulsion, seawater, turnback)
 from physics.states import FAILURE_MODE_NAMES, FailureMode
 from uq.errors import InputError
 from uq.outcomes import Outcomes
+from uq.route_energy import RouteEnergy
 from uq.scenario import (
     DragCoefficient,
     GliderVehicle,
@@ -38,6 +39,8 @@ __all__ = [
     "ScenarioModel",
     "simulate_arrays",
     "simulate",
+    "route_energy",
+    "RouteEnergy",
     "nominal_inputs",
     "nominal",
     "NominalResult",
@@ -273,6 +276,12 @@ def _hotel(scenario: Scenario, f: _Fields) -> np.ndarray:
 
 def _transit(scenario: Scenario, x: np.ndarray, **options):
     """Forward flight, under-ice outcome and hardware split of every sample row of ``x``."""
+    transit, under_ice, faults, _ = _flight(scenario, x, **options)
+    return transit, under_ice, faults
+
+
+def _flight(scenario: Scenario, x: np.ndarray, **options):
+    """:func:`_transit` plus what it flew: rates, battery and capacity factor per leg."""
     f = _Fields(scenario, x)
     hotel = _hotel(scenario, f)
     top, bottom = _depth_band(scenario, f)
@@ -323,7 +332,7 @@ def _transit(scenario: Scenario, x: np.ndarray, **options):
     faults = turnback.fault_split(
         under_ice, ice, [s.rate_per_day / SECONDS_PER_DAY for s in subsystems],
         [s.weibull_shape for s in subsystems])
-    return transit, under_ice, faults
+    return transit, under_ice, faults, (rates, battery, capacity)
 
 
 def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> Outcomes:
@@ -360,6 +369,37 @@ def simulate_arrays(scenario: Scenario, x: np.ndarray, **options) -> Outcomes:
         p_no_fault=faults.no_fault,
         p_fault_under_ice=faults.under_ice,
         p_fault_open_water=faults.open_water,
+    )
+
+
+def route_energy(scenario: Scenario, x: np.ndarray, *, steps_per_leg: int = 8) -> RouteEnergy:
+    """Energy along the route of every sample row of ``x``, flown by the same model as
+    :func:`simulate_arrays` (one flight; nothing is integrated twice), in report units.
+
+    ``steps_per_leg`` profile columns are recorded per leg; the energy drawn on each leg is
+    split by term with :func:`physics.energy_split.leg_energy_split`.
+    """
+    transit, ice, _, (rates, battery, capacity) = _flight(scenario, x,
+                                                          profile_steps=steps_per_leg)
+    prof = transit.profile
+    n_legs = len(scenario.legs)
+    split = energy_split.leg_energy_split(rates, prof, n_legs, capacity)
+    usable = battery.usable(prof.elapsed.T).T
+    finished = transit.duration + ice.arrival_duration
+    return RouteEnergy(
+        leg_names=tuple(leg.name for leg in scenario.legs),
+        position_km=prof.position / 1000.0, elapsed_days=prof.elapsed / SECONDS_PER_DAY,
+        usable_Wh=usable / _J_PER_WH, drawn_Wh=prof.energy / _J_PER_WH,
+        reserve_Wh=usable * battery.reserve_fraction[:, None] / _J_PER_WH,
+        column_leg=np.asarray(prof.leg, dtype=int),
+        leg_split_Wh={k: v / _J_PER_WH for k, v in split.items()},
+        recovery_point_Wh=np.asarray(ice.arrival_energy) / _J_PER_WH,
+        drawable_at_end_Wh=battery.drawable(finished) / _J_PER_WH,
+        arrived=np.asarray(transit.arrived, bool), turned_back=np.asarray(ice.turned_back, bool),
+        turn_position_km=np.asarray(ice.turn_position) / 1000.0,
+        margin_Wh=np.asarray(ice.margin) / _J_PER_WH,
+        under_ice=np.array([leg.under_ice for leg in scenario.legs], dtype=bool),
+        route_km=np.asarray(transit.route_length) / 1000.0,
     )
 
 

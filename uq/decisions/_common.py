@@ -178,17 +178,30 @@ def _rows_frame(rows: tuple[Any, ...]):
 
 
 # --------------------------------------------------------------------------- formatting
+def percent_number(p: float, digits: int) -> str:
+    """``100 p`` with ``digits`` decimals (no unit); a probability short of 1 never prints as
+    100 ("> 99.999"), one above 0 never as 0 ("< 0.001"); exact 0 and 1 print as 0 and 100.
+    The one rounding rule of every percentage on the page and in sentences."""
+    if p <= 0.0:
+        return "0"
+    if p >= 1.0:
+        return "100"
+    text = f"{100.0 * p:.{digits}f}"
+    step = 10.0 ** -digits
+    if float(text) >= 100.0:
+        return f"> {100.0 - step:.{digits}f}"
+    if float(text) <= 0.0:
+        return f"< {step:.{digits}f}"
+    return text
+
+
 def _fmt_prob(p: float | None) -> str:
     """Probability as a percentage with enough digits near 0 and 1, e.g. '96.2 %'."""
     if p is None:
         return "n/a"
-    if p <= 0.0:
-        return "0 %"
-    if p >= 1.0:
-        return "100 %"
     tail = min(p, 1.0 - p)
     digits = 1 if tail >= 0.01 else (2 if tail >= 0.001 else 3)
-    return f"{100.0 * p:.{digits}f} %"
+    return f"{percent_number(p, digits)} %"
 
 
 def _fmt_prob_interval(low: float | None, high: float | None) -> str:

@@ -46,6 +46,10 @@ def json_safe(obj: Any) -> Any:
     return str(obj)
 
 
+#: the minus sign of typeset numbers (U+2212), so that "−3 to −1" never reads as a dash
+MINUS = "\u2212"
+
+
 class Formatter:
     """Formats numbers for the page; remembers whether it had to print a dash."""
 
@@ -83,9 +87,11 @@ class Formatter:
 
     @staticmethod
     def _pct_text(v: float, digits: int) -> str:
-        if v in (0.0, 1.0):
-            return f"{100.0 * v:.0f}"
-        return f"{100.0 * v:.{digits}f}"
+        """Percent with ``digits`` decimals by the one rounding rule
+        (:func:`uq.decisions._common.percent_number`: never "100.000" short of 1)."""
+        from uq.decisions._common import percent_number
+
+        return percent_number(v, digits)
 
     def pct(self, p: Any, digits: int | None = None) -> str:
         """Probability as a percentage; more digits near 0 and 1 ("100 %" when exact)."""
@@ -97,9 +103,13 @@ class Formatter:
         return f"{self._pct_text(v, digits)} %"
 
     def interval(self, low: Any, high: Any, digits: int = 2, unit: str = "") -> str:
-        """``low–high unit``; a dash for a missing end."""
+        """``low–high unit``; ``−a to −b unit`` when an end is negative (never a double
+        minus); a dash for a missing end."""
         lo, hi = self.num(low, digits), self.num(high, digits)
-        text = f"{lo}\u2013{hi}"
+        if lo.startswith("-") or hi.startswith("-"):
+            text = f"{lo.replace('-', MINUS)} to {hi.replace('-', MINUS)}"
+        else:
+            text = f"{lo}\u2013{hi}"
         return f"{text} {unit}".rstrip() if unit else text
 
     def money(self, x: Any, currency: str = "") -> str:

@@ -17,7 +17,10 @@ import numpy as np
 import pandas as pd
 
 from uq.report import figures as fig_mod
-from uq.report._format import Formatter, finite_or_none
+from uq.report import energy_figures
+from uq.report.plan import plan_summary
+from uq.report.verdict_panel import verdict_panel
+from uq.report._format import Formatter
 from uq.report.files import (
     REPORTS_ROOT, ReportExistsError, default_output_dir, safe_folder_name, write_csv,
     write_folder, write_json,
@@ -33,9 +36,9 @@ __all__ = ["ReportExistsError", "safe_folder_name", "default_report_dir", "write
 
 #: ids of the report's sections, in page order (sweep, comparison and glide polar only when
 #: they apply)
-SECTION_IDS = ("verdict", "range-curve", "failures", "sensitivity", "tests", "contingency",
-               "sweep", "comparison", "glide-polar", "inputs", "surrogate", "baseline",
-               "estimators", "assumptions", "cautions", "run-record")
+SECTION_IDS = ("verdict", "plan", "energy", "range-curve", "failures", "sensitivity", "tests",
+               "contingency", "sweep", "comparison", "glide-polar", "inputs", "surrogate",
+               "baseline", "estimators", "assumptions", "cautions", "run-record")
 
 CAUTIONS = (
     "This report is a planning aid, not a guarantee: the probabilities are only as good as "
@@ -132,6 +135,7 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     _write_tables(a, folder, sweep=sweep, sweep_summary=sweep_summary, comparison=comparison,
                   pair=pair)
     write_sample_exports(a, folder)  # samples.nc / samples.parquet with the ocean extra
+    energy, energy_images = _energy_along_route(a, folder, figdir, progress)
 
     _step(progress, "figures")
     images = _make_figures(a, figdir, sweep_summary=sweep_summary)
@@ -143,9 +147,26 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     write_json(folder / "summary.json", summary)
 
     _step(progress, "index.html")
-    html = render_html(a, images=images, sweep_summary=sweep_summary, pair=pair,
-                       extra_timings={"report_tables_and_figures": report_s})
+    html = render_html(a, images={**images, **energy_images}, sweep_summary=sweep_summary,
+                       pair=pair, extra_timings={"report_tables_and_figures": report_s},
+                       energy=energy)
     (folder / "index.html").write_text(html, encoding="utf-8")
+
+
+def _energy_along_route(a, folder: Path, figdir: Path, progress):
+    """The energy section: a bounded subsample re-flown, its CSVs and figures (a narrow
+    variant of each for phone-width screens); returns the section and base64 PNGs."""
+    _step(progress, "energy along the route")
+    energy = energy_figures.energy_section(a)
+    _csv(energy_figures.along_route_frame(energy), folder / "energy_along_route.csv")
+    _csv(energy_figures.by_leg_frame(energy), folder / "energy_by_leg.csv")
+    images = {}
+    for stem, make in (("energy_fan", energy_figures.fan_chart_figure),
+                       ("energy_split", energy_figures.energy_split_figure)):
+        images[stem] = _b64(fig_mod.save_figure(make(energy), figdir, stem))
+        images[stem + "_narrow"] = _b64(fig_mod.save_figure(make(energy, narrow=True), figdir,
+                                                            stem + "_narrow"))
+    return energy, images
 
 
 # ------------------------------------------------------------------------ tables
@@ -248,26 +269,12 @@ def _make_figures(a, figdir: Path, *, sweep_summary) -> dict[str, str]:
 
 
 # ------------------------------------------------------------------------ HTML
-def _verdict_scale(p, required: float) -> dict[str, float]:
-    """Positions [% of the bar width] of the interval, estimate and requirement."""
-    lo_v = finite_or_none(p.lower) or 0.0
-    hi_v = finite_or_none(p.upper) or 1.0
-    est = finite_or_none(p.estimate) or 0.0
-    left = max(0.0, min(lo_v, required) - 0.05)
-    right = min(1.0, max(hi_v, required) + 0.05)
-    span = max(right - left, 1e-9)
-
-    def pos(v):
-        return 100.0 * (v - left) / span
-
-    return {"left": left, "right": right, "lo": pos(lo_v), "hi": pos(hi_v), "est": pos(est),
-            "req": pos(required)}
-
-
 def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
-                extra_timings: dict[str, float] | None = None) -> str:
-    """The self-contained index.html of an assessment."""
+                extra_timings: dict[str, float] | None = None, energy=None) -> str:
+    """The self-contained index.html of an assessment (``energy``: its
+    :func:`uq.report.energy_figures.energy_section`, computed when not given)."""
     fmt = Formatter()
+    energy = energy_figures.energy_section(a) if energy is None else energy
     sc = a.scenario
     op = glide_operating_point(sc)
     timings = dict(a.timings_s)
@@ -286,7 +293,8 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         nominal=nominal_dict(a.nominal),
         inputs=inputs_frame(sc, a.pinned).to_dict("records"),
         pinned=a.pinned, margin_vs=margin_vs,
-        scale=_verdict_scale(a.propagation.p_success, sc.decision.required_probability),
+        panel=verdict_panel(a, fmt), energy=energy, term_labels=energy_figures.TERM_LABELS,
+        plan=plan_summary(sc, arrival_days=energy.leg_end_days),
         cautions=CAUTIONS, run_cautions=run_cautions(a), assumptions=MODEL_ASSUMPTIONS,
         timings=timings, rare_event_rule=when_it_runs(),
         total_time=sum(timings.values()),

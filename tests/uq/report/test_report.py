@@ -44,9 +44,10 @@ REQUIRED_KEYS = {
     "timings_s": dict,
 }
 FILES = ["index.html", "summary.json", "range_curve.csv", "sensitivity.csv", "tests.csv",
-         "contingency.csv", "failures.csv", "inputs.csv"]
+         "contingency.csv", "failures.csv", "inputs.csv", "energy_along_route.csv",
+         "energy_by_leg.csv"]
 FIGURES = ["range_curve", "failures", "sensitivity_range_km", "sensitivity_failure",
-           "contingency", "knowledge_band"]
+           "contingency", "knowledge_band", "energy_fan", "energy_split"]
 
 
 def _no_nan(text: str):
@@ -57,7 +58,7 @@ def _no_nan(text: str):
 
 def _visible(html: str) -> str:
     """The page without embedded images and style (base64 may contain any letters)."""
-    html = re.sub(r'src="data:[^"]*"', 'src=""', html)
+    html = re.sub(r'(src|srcset)="data:[^"]*"', 'src=""', html)
     return re.sub(r"<style>.*?</style>", "", html, flags=re.S)
 
 
@@ -164,6 +165,17 @@ def test_formatter_prints_a_dash_for_missing_numbers():
     assert f.interval(1.0, float("inf"), 1, "km") == f"1.0\u2013{DASH} km"
     assert f.dashes == 3
     assert f.pct(1.0) == "100 %" and f.pct(0.5) == "50.0 %"
+
+
+def test_formatter_never_prints_a_double_minus_or_a_rounded_certainty():
+    f = Formatter()
+    # U+2212 is the minus sign of typography (Unicode Standard, Mathematical Operators)
+    assert f.interval(-422.4, -385.0, 0, "Wh") == "\u2212422 to \u2212385 Wh"
+    assert "--" not in f.interval(-5, -1) and "-" not in f.interval(-5, -1)
+    # an estimate of 0.9999996 is not certainty: it prints below 100 % at 3 decimals
+    assert f.pct(0.9999996) == "> 99.999 %"
+    assert f.pct(4e-7) == "< 0.001 %"
+    assert f.pct_interval(0.9461, 0.9489) == "94.6\u201394.9 %"
 
 
 def test_glider_report_has_the_glide_polar(tmp_path):
@@ -296,3 +308,14 @@ def test_failure_while_overwriting_keeps_the_old_report(demo, tmp_path, monkeypa
 def test_build_summary_is_json_without_nan(demo):
     text = json.dumps(build_summary(demo), allow_nan=False)
     assert math.isfinite(_no_nan(text)["p_success"]["estimate"])
+
+
+def test_board_sections_open_the_page_and_no_interval_has_a_double_minus(demo_report):
+    html = (demo_report / "index.html").read_text(encoding="utf-8")
+    order = [html.find(f'<section id="{s}">') for s in ("verdict", "plan", "energy", "range-curve")]
+    assert -1 not in order and order == sorted(order)
+    text = _visible(html)
+    # an interval of two negative numbers reads "-422 to -385", never "-422--385" or "-422–-385"
+    assert not re.search("[0-9][\u2013-][-\u2212][0-9]", text)
+    assert "The plan being judged" in text and "Energy along the route" in text
+    assert "100.000 %" not in text
