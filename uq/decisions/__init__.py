@@ -20,8 +20,11 @@ from .comparison import (
     RatioQuantile,
     SweepRow,
     SweepSummary,
+    format_points,
     mcnemar_exact_p_value,
     paired_comparison,
+    replicate_mean,
+    replicate_success,
     sweep_summary,
 )
 from .contingency import (
@@ -128,5 +131,8 @@ __all__ = [
     "RatioQuantile",
     "PairedComparison",
     "paired_comparison",
+    "format_points",
+    "replicate_success",
+    "replicate_mean",
     "mcnemar_exact_p_value",
 ]

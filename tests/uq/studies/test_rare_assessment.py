@@ -90,7 +90,7 @@ def test_a_demanding_requirement_brings_in_subset_simulation_at_1e_4(monkeypatch
     named = a.estimators()
     assert named["p_success"].startswith("1 - P(fail) by subset simulation")
     assert named["outcomes.reserve_breach"].startswith("subset simulation")
-    assert "wilson" in named["p_arrive"] or "clopper" in named["p_arrive"]
+    assert "wilson" in named["p_reached_recovery"] or "clopper" in named["p_reached_recovery"]
     summary = build_summary(a)
     assert summary["estimators"] == named
     assert summary["rare_events"]["p_fail"]["estimate"] == a.rare_events.failure.probability.estimate

@@ -55,7 +55,7 @@ def test_sweep_optimum_tends_to_the_closed_form_speed_as_uncertainty_vanishes():
     assert deterministic_optimum(scenario, "setpoint.speed_m_s") == pytest.approx(u_star, rel=1e-6)
     grid = np.round(np.arange(0.60, 1.40, 0.02), 2)
     result = sweep_setpoint(scenario, "setpoint.speed_m_s", grid, samples=64)
-    assert all(r.probability_of_success == 1.0 for r in result.summary.rows)
+    assert all(r.p_success == 1.0 for r in result.summary.rows)
     assert abs(result.summary.robust_setpoint - u_star) <= 0.01 + 1e-12  # half the grid step
 
 
