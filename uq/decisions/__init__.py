@@ -25,6 +25,7 @@ from .comparison import (
     paired_comparison,
     replicate_mean,
     replicate_success,
+    robust_choice,
     sweep_summary,
 )
 from .contingency import (
@@ -134,5 +135,6 @@ __all__ = [
     "format_points",
     "replicate_success",
     "replicate_mean",
+    "robust_choice",
     "mcnemar_exact_p_value",
 ]

@@ -40,6 +40,7 @@ __all__ = [
     "paired_comparison",
     "mcnemar_exact_p_value",
     "format_points",
+    "robust_choice",
 ]
 
 
@@ -258,17 +259,25 @@ def _sweep_row(setpoint: float, success, duration_days, arrived, margin, *, p_st
     )
 
 
+def robust_choice(p_success_low, mean_margin=None, duration=None) -> int:
+    """Index of the robust choice among configurations: the highest lower bound of
+    P(success); ties (equal to 12 significant digits, e.g. all 1.0 when uncertainty is
+    small) go to the larger mean energy margin, then to the shorter duration. ``None``
+    entries rank last. The one rule for sweeps and studies."""
+    m = len(p_success_low)
+
+    def value(seq, i, sign):
+        v = None if seq is None else seq[i]
+        return np.inf if v is None or not np.isfinite(v) else sign * float(f"{v:.12g}")
+
+    key = [(value(p_success_low, i, -1), value(mean_margin, i, -1), value(duration, i, 1))
+           for i in range(m)]
+    return min(range(m), key=lambda i: key[i])
+
+
 def _robust_index(rows) -> int:
-    """The robust choice: the highest lower bound of P(success); ties (e.g. all 1.0 when
-    uncertainty is small) go to the larger mean energy margin, then to the shorter duration
-    quantile."""
-    key = [
-        (-float(f"{r.p_success_low:.12g}"),
-         -float(f"{r.mean_margin_Wh:.12g}") if r.mean_margin_Wh is not None else np.inf,
-         np.inf if r.duration_quantile_days is None else r.duration_quantile_days)
-        for r in rows
-    ]
-    return min(range(len(rows)), key=lambda i: key[i])
+    return robust_choice([r.p_success_low for r in rows], [r.mean_margin_Wh for r in rows],
+                         [r.duration_quantile_days for r in rows])
 
 
 def _sweep_sentence(rows, best: int, *, setpoint_name: str, unit: str, p_star: float, dq: float,

@@ -110,6 +110,20 @@ class Formatter:
             text = f"{lo}\u2013{hi}"
         return f"{text} {unit}".rstrip() if unit else text
 
+    @staticmethod
+    def label(name: str) -> str:
+        """An input's readable label (:func:`input_label`)."""
+        return input_label(name)
+
+    @staticmethod
+    def ranked(indices) -> list[int]:
+        """Positions of a Sobol result's factors, largest total index first (NaN last)."""
+        import math
+
+        total = [float(t) for t in indices.total]
+        return sorted(range(len(total)),
+                      key=lambda i: (-total[i] if math.isfinite(total[i]) else math.inf, i))
+
     def points(self, x: Any) -> str:
         """A difference of probabilities in signed percentage points, e.g. ``+3.2`` or
         ``\u22120.41``."""

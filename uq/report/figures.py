@@ -20,12 +20,15 @@ from matplotlib.figure import Figure
 
 __all__ = [
     "save_figure",
+    "png_bytes",
     "range_curve_figure",
     "failures_figure",
     "sensitivity_figure",
     "contingency_figure",
     "sweep_figure",
     "comparison_figure",
+    "study_heatmap",
+    "study_heatmaps_figure",
     "glide_polar_figure",
     "knowledge_band_figure",
 ]
@@ -55,13 +58,19 @@ def _finish(fig, ax, own: bool):
     return ax
 
 
+def png_bytes(fig) -> bytes:
+    """The PNG of a Figure (or of an Axes' Figure) as embedded in the pages."""
+    fig = getattr(fig, "figure", fig) if not isinstance(fig, Figure) else fig
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="png", dpi=_DPI, bbox_inches="tight")
+    return buffer.getvalue()
+
+
 def save_figure(fig, folder: Path, stem: str) -> bytes:
     """Write ``fig`` (a Figure, or an Axes whose Figure is written) as ``<stem>.png`` and
     ``<stem>.svg`` in ``folder``; return the PNG bytes."""
     fig = getattr(fig, "figure", fig) if not isinstance(fig, Figure) else fig
-    buffer = io.BytesIO()
-    fig.savefig(buffer, format="png", dpi=_DPI, bbox_inches="tight")
-    png = buffer.getvalue()
+    png = png_bytes(fig)
     (folder / f"{stem}.png").write_bytes(png)
     fig.savefig(folder / f"{stem}.svg", format="svg", bbox_inches="tight")
     return png
@@ -300,3 +309,77 @@ def knowledge_band_figure(band, *, ax=None):
     ax.set_title(f"Credibility of reaching the requirement: {100.0 * band.credibility:.1f} %")
     ax.legend(loc="upper left", fontsize=8)
     return _finish(fig, ax, own)
+
+
+def study_heatmap(frame, x_field: str, y_field: str, *, required_probability: float,
+                  x_label: str = "", y_label: str = "", title: str = "", ax=None):
+    """P(success) [%] over a 2-D grid of a study as a heat map, one cell per variant.
+
+    ``frame`` holds one row per variant with the columns ``x_field``, ``y_field``,
+    ``p_success``, ``p_success_low`` and ``verdict`` (:meth:`StudyResult.to_frame`, the
+    other grid fields fixed). A cell reads the estimate and the verdict; a heavy outline
+    marks the cells whose lower bound meets the requirement.
+    """
+    own = ax is None
+    xs = list(dict.fromkeys(str(v) for v in frame[x_field]))
+    ys = list(dict.fromkeys(str(v) for v in frame[y_field]))
+    fig, ax = _subplots((1.3 * len(xs) + 2.6, 0.7 * len(ys) + 1.6), ax)
+    grid = np.full((len(ys), len(xs)), np.nan)
+    for _, r in frame.iterrows():
+        i, j = ys.index(str(r[y_field])), xs.index(str(r[x_field]))
+        grid[i, j] = 100.0 * float(r["p_success"])
+        ok = r["p_success_low"] is not None and float(r["p_success_low"]) >= required_probability
+        ax.text(j, i, f"{grid[i, j]:.1f} %\n{str(r['verdict']).upper()}", ha="center",
+                va="center", fontsize=7.5, color="black")
+        if ok:
+            ax.add_patch(_outline(j, i))
+    image = ax.imshow(grid, cmap="RdYlGn", vmin=0.0, vmax=100.0, aspect="auto")
+    ax.set_xticks(range(len(xs)), [_text(v) for v in xs], fontsize=7.5)
+    ax.set_yticks(range(len(ys)), [_text(v) for v in ys], fontsize=7.5)
+    ax.set_xlabel(_text(x_label or x_field), fontsize=8.5)
+    ax.set_ylabel(_text(y_label or y_field), fontsize=8.5)
+    if title:
+        ax.set_title(_text(title), fontsize=8.5)
+    if own:
+        fig.colorbar(image, ax=ax, label="P(success) [%]")
+    return _finish(fig, ax, own)
+
+
+def _outline(j, i):
+    from matplotlib.patches import Rectangle
+
+    return Rectangle((j - 0.5, i - 0.5), 1.0, 1.0, fill=False, lw=2.2, ec="#1b1b1b")
+
+
+def study_heatmaps_figure(frame, fields, *, required_probability: float, labels=None,
+                          max_panels: int = 6):
+    """Heat maps of P(success) over a study grid: the two fields with the most values are
+    the axes, one panel per combination of the other fields (at most ``max_panels``;
+    ``None`` when there are more, or fewer than two fields with two or more values)."""
+    labels = labels or {}
+    counts = {f: frame[f].astype(str).nunique() for f in fields}
+    varied = sorted((f for f in fields if counts[f] > 1), key=lambda f: -counts[f])
+    if len(varied) < 2:
+        return None
+    x_field, y_field, rest = varied[0], varied[1], varied[2:]
+    groups = list(frame.groupby([frame[f].astype(str) for f in rest], sort=False)) if rest \
+        else [((), frame)]
+    if len(groups) > max_panels:
+        return None
+    cols = 1 if counts[x_field] >= 4 else min(2, len(groups))
+    rows = -(-len(groups) // cols)
+    nx, ny = counts[x_field], counts[y_field]
+    fig = Figure(figsize=(cols * (1.2 * nx + 2.4), rows * (0.65 * ny + 1.9)))
+    axes = np.atleast_1d(fig.subplots(rows, cols, squeeze=False).ravel())
+    for ax, (key, part) in zip(axes, groups):
+        key = key if isinstance(key, tuple) else (key,)
+        title = "; ".join(f"{labels.get(f, f)} = {v}" for f, v in zip(rest, key))
+        study_heatmap(part, x_field, y_field, required_probability=required_probability,
+                      x_label=labels.get(x_field, x_field), y_label=labels.get(y_field, y_field),
+                      title=title, ax=ax)
+    for ax in axes[len(groups):]:
+        ax.set_visible(False)
+    fig.suptitle("P(success) by variant (outlined: the lower bound meets the requirement)",
+                 fontsize=9)
+    fig.tight_layout()
+    return fig

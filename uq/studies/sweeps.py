@@ -123,11 +123,12 @@ def shared_designs(settings, dimension: int) -> list[SampleDesign]:
 
 def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int | None = None,
                                seed: int | None = None, scheme: str | None = None,
-                               settings=None, executor=None) -> list[Outcomes]:
+                               replicates: int | None = None, settings=None,
+                               executor=None) -> list[Outcomes]:
     """Outcomes of every scenario on one shared plan (common random numbers by input name).
 
     The plan is an assessment's plan (``settings``, or the first scenario's ``[analysis]``
-    with ``samples``/``seed``/``scheme`` overriding it): the same replicates, seed and block
+    with ``samples``/``seed``/``scheme``/``replicates`` overriding it): the same replicates, seed and block
     size, drawn over the union of the input names (the first scenario's inputs first). A
     configuration whose inputs are that union therefore runs on exactly the rows its own
     assessment runs on, and gets the same P(success). The plan's unit points are correlated
@@ -139,7 +140,8 @@ def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int | 
     in plan order, replicate after replicate.
     """
     if settings is None:
-        settings = plan_settings(scenarios[0], samples=samples, seed=seed, scheme=scheme)
+        settings = plan_settings(scenarios[0], samples=samples, seed=seed, scheme=scheme,
+                                 replicates=replicates)
     union: list[str] = []
     for s in scenarios:
         union.extend(name for name in s.input_names if name not in union)
@@ -164,9 +166,10 @@ def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int | 
 
 
 def plan_settings(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
-                  scheme: str | None = None):
+                  scheme: str | None = None, replicates: int | None = None):
     """The settings an assessment of ``scenario`` would run with (the one sizing rule)."""
-    return _settings(scenario, samples=samples, seed=seed, scheme=scheme)
+    return _settings(scenario, samples=samples, seed=seed, scheme=scheme,
+                     replicates=replicates)
 
 
 def _evaluate_block(task):
