@@ -158,7 +158,7 @@ class Formatter:
 
 
 #: unit suffixes of scenario field names (the file convention) and how a page writes them
-_UNIT_SUFFIXES = (("_m_s", "m/s"), ("_Wh", "Wh"), ("_W", "W"), ("_km", "km"), ("_m2", "m\u00b2"),
+_UNIT_SUFFIXES = (("_m_s", "m/s"), ("_h", "h"), ("_Wh", "Wh"), ("_W", "W"), ("_km", "km"), ("_m2", "m\u00b2"),
                   ("_deg", "\u00b0"), ("_days", "d"), ("_C", "\u00b0C"), ("_N", "N"),
                   ("_J", "J"), ("_s", "s"), ("_m", "m"))
 
@@ -190,6 +190,6 @@ def input_label(name: str, *, wrap: bool = False) -> str:
     quantity = _QUANTITY_WORDS.get(field, field.replace("_", " "))
     if path[0] == "legs" and len(path) >= 3:
         return f"{path[1].replace('_', ' ')}: {quantity} [{unit}]"
-    owner = [p.replace("_", " ") for p in path[1:-1]] if path[0] == "vehicle" else \
-        [p.replace("_", " ") for p in path[:-1]]
+    owner = [p.replace("_", " ") for p in path[1:-1]] if path[0] == "vehicle" and len(path) > 2 \
+        else [p.replace("_", " ") for p in path[:-1]]
     return " ".join([*owner, quantity]).strip() + f" [{unit}]"

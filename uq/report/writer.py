@@ -206,29 +206,39 @@ def _write_tables(a, folder, *, sweep, sweep_summary, comparison, pair) -> None:
         _csv(frame, folder / "sweep.csv")
     if pair is not None:
         _csv(comparison_frame(pair), folder / "comparison.csv")
+        _csv(comparison_energy_frame(pair), folder / "comparison_energy.csv")
 
 
 def comparison_frame(pair) -> pd.DataFrame:
-    """comparison.csv: one row per configuration (successes, P(success) with its interval,
-    verdict), a row for the paired difference A - B, then the energy-ratio quantiles."""
+    """comparison.csv: one row per configuration: its successes, P(success) with its
+    interval and verdict, and the paired difference to the other configuration [-]
+    (``p_success_minus_other``: A - B on A's row, B - A on B's) with its interval."""
     rows = []
-    for name, suffix, verdict in ((pair.names[0], "a", pair.verdict_a),
-                                  (pair.names[1], "b", pair.verdict_b)):
-        rows.append({"quantity": "p_success", "configuration": name,
-                     "samples": pair.samples, "successes": getattr(pair, f"successes_{suffix}"),
-                     "value": getattr(pair, f"p_success_{suffix}"),
-                     "low": getattr(pair, f"p_success_{suffix}_low"),
-                     "high": getattr(pair, f"p_success_{suffix}_high"),
-                     "unit": "-", "verdict": verdict})
-    rows.append({"quantity": "p_success_difference", "configuration": " - ".join(pair.names),
-                 "samples": pair.samples, "value": pair.difference,
-                 "low": pair.difference_low, "high": pair.difference_high, "unit": "-"})
-    for q in pair.energy_ratio_quantiles:
-        rows.append({"quantity": f"energy_per_km_ratio_q{round(100 * q.quantile):02d}",
-                     "configuration": " / ".join(pair.names),
-                     "samples": pair.energy_ratio_samples, "value": q.ratio,
-                     "low": q.ratio_low, "high": q.ratio_high, "unit": "-"})
+    for k, (name, suffix, verdict) in enumerate(((pair.names[0], "a", pair.verdict_a),
+                                                 (pair.names[1], "b", pair.verdict_b))):
+        sign = 1.0 if k == 0 else -1.0
+        lo, hi = pair.difference_low, pair.difference_high
+        if sign < 0:
+            lo, hi = (None if hi is None else -hi), (None if lo is None else -lo)
+        rows.append({"configuration": name, "samples": pair.samples,
+                     "successes": getattr(pair, f"successes_{suffix}"),
+                     "p_success": getattr(pair, f"p_success_{suffix}"),
+                     "p_success_low": getattr(pair, f"p_success_{suffix}_low"),
+                     "p_success_high": getattr(pair, f"p_success_{suffix}_high"),
+                     "verdict": verdict,
+                     "p_success_minus_other": sign * pair.difference,
+                     "p_success_minus_other_low": lo, "p_success_minus_other_high": hi})
     return pd.DataFrame(rows)
+
+
+def comparison_energy_frame(pair) -> pd.DataFrame:
+    """comparison_energy.csv: quantiles of the per-sample ratio of energy per km A / B [-]."""
+    return pd.DataFrame([{"quantile": q.quantile, "energy_per_km_ratio": q.ratio,
+                          "energy_per_km_ratio_low": q.ratio_low,
+                          "energy_per_km_ratio_high": q.ratio_high}
+                         for q in pair.energy_ratio_quantiles],
+                        columns=["quantile", "energy_per_km_ratio", "energy_per_km_ratio_low",
+                                 "energy_per_km_ratio_high"])
 
 
 # ------------------------------------------------------------------------ figures
