@@ -39,7 +39,8 @@ def nominal_dict(nominal) -> dict[str, Any]:
         "duration_days": row["duration_days"],
         "margin_Wh": row["margin_Wh"],
         "margin_fraction": row["margin_fraction"],
-        "arrived": bool(row["arrived"]),
+        "reached_route_end": bool(row["arrived"]),  # without a stop; maybe on the reserve
+        "reached_recovery": bool(row["reaches_recovery"]),
         "success": bool(row["success"]),
         "failure_mode": str(row["failure_mode"]),
         "failing_leg": str(row["failing_leg"]) or None,
