@@ -38,7 +38,7 @@ class OutcomeClass(IntEnum):
 #: plain-language names for sentences, tables and JSON
 OUTCOME_CLASS_NAMES = {
     OutcomeClass.SUCCESS: "success",
-    OutcomeClass.LOST: "lost vehicle (did not reach the recovery point)",
+    OutcomeClass.LOST: "lost in open water (stopped short of the recovery point)",
     OutcomeClass.RESERVE_BREACH: "reached recovery on the reserve",
     OutcomeClass.LATE: "late beyond the time limit",
     OutcomeClass.TURNED_BACK_TO_SAFE_EXIT: "turned back to a safe exit (aborted, vehicle safe)",

@@ -22,6 +22,7 @@ __all__ = [
     "save_figure",
     "png_bytes",
     "range_curve_figure",
+    "curve_at",
     "failures_figure",
     "sensitivity_figure",
     "contingency_figure",
@@ -93,7 +94,7 @@ def range_curve_figure(curve, *, route_km: float, required_probability: float,
     ax.set_ylabel("P(range \u2265 x) on energy alone [-]")
     ax.set_ylim(-0.02, 1.02)
     ax.set_xlim(x.min(), x.max())
-    at_route = float(np.interp(route_km, x, np.asarray(curve.probability, dtype=float)))
+    at_route = curve_at(curve, route_km)
     text = f"at the route length: P(range \u2265 route) = {at_route:.1%} (energy alone)"
     if p_success is not None:
         text += (f"\nverdict: P(success) = {p_success:.1%} (also counts turning back, "
@@ -102,6 +103,13 @@ def range_curve_figure(curve, *, route_km: float, required_probability: float,
     ax.plot([route_km], [at_route], "o", color=_RED, ms=5, zorder=5)
     _decision_inset(ax, curve, x, route_km, required_probability)
     return _finish(fig, ax, own)
+
+
+def curve_at(curve, x: float) -> float:
+    """The estimate of P(range >= x) [-] read off the curve at ``x`` [km] (linear between
+    grid points): what the figure and the page state at the route length."""
+    return float(np.interp(x, np.asarray(curve.grid, dtype=float),
+                           np.asarray(curve.probability, dtype=float)))
 
 
 def _draw_range_curve(ax, curve, x, route_km, required_probability, *, legend: bool):

@@ -336,4 +336,5 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         total_time=sum(timings.values()),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
         censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),
+        range_at_route=fig_mod.curve_at(a.propagation.range_curve, a.propagation.route_km),
     )

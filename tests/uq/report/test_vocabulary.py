@@ -177,7 +177,7 @@ def test_every_p_success_on_the_page_is_the_verdicts(run):
     seen = 0
     for section in own_sections:
         text = page.text(section)
-        for m in re.finditer(r"P\(success\)\s*=?\s*(\d+(?:\.\d+)?) %"
+        for m in re.finditer(r"P\(success\)\s*[=(]?\s*(\d+(?:\.\d+)?) %"
                              r"(?:\s*\(\d+ % CI (\d+(?:\.\d+)?)\D(\d+(?:\.\d+)?) %)?", text):
             seen += 1
             assert _agrees(m.group(1), p["estimate"]), (section, m.group(0))
@@ -226,3 +226,21 @@ def test_table_columns_carry_units(run):
     for name in ("sweep.csv", "comparison.csv", "range_curve.csv", "contingency.csv"):
         header = next(csv.reader((folder / name).open(encoding="utf-8")))
         assert not {"threshold", "mean_margin", "cost", "value", "arrived"} & set(header), name
+
+
+def test_range_curve_at_the_route_is_labelled_beside_the_verdict(run):
+    # the page states the curve's value at the route length (read from range_curve.csv
+    # here, linear between grid points) as energy alone, next to the verdict's P(success)
+    s, page, folder = run["summary"], run["page"], run["folder"]
+    rows = _csv(folder / "range_curve.csv")
+    x = [float(r["range_km"]) for r in rows]
+    p = [float(r["probability"]) for r in rows]
+    route = s["scenario"]["route_km"]
+    k = next(i for i, v in enumerate(x) if v >= route)
+    at_route = p[k - 1] + (p[k] - p[k - 1]) * (route - x[k - 1]) / (x[k] - x[k - 1])
+    m = re.search(r"the curve reads (\d+(?:\.\d+)?) %: the probability of the energy lasting "
+                  r"that far, on energy alone\. It is not the verdict's P\(success\) "
+                  r"\((\d+(?:\.\d+)?) %\)", page.text("range-curve"))
+    assert m is not None
+    assert _agrees(m.group(1), at_route)
+    assert _agrees(m.group(2), s["p_success"]["estimate"])
