@@ -87,7 +87,7 @@ def range_curve_figure(curve, *, route_km: float, required_probability: float,
     go/no-go is decided.
     """
     own = ax is None
-    fig, ax = _subplots((7.2, 4.6), ax)
+    fig, ax = _subplots((7.2, 5.0), ax)
     x = np.asarray(curve.grid, dtype=float)
     _draw_range_curve(ax, curve, x, route_km, required_probability, legend=True)
     ax.set_xlabel("range x [km]")
@@ -122,8 +122,9 @@ def _draw_range_curve(ax, curve, x, route_km, required_probability, *, legend: b
     ax.axhline(required_probability, color=_ORANGE, ls=":", lw=1.2,
                label=f"required {required_probability:.0%}")
     ax.grid(alpha=0.3)
-    if legend:
-        ax.legend(loc="lower left", fontsize=8)
+    if legend:  # below the axes: it never hides the curve
+        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=3, fontsize=8,
+                  frameon=False)
 
 
 def _decision_inset(ax, curve, x, route_km, required_probability):
@@ -138,7 +139,8 @@ def _decision_inset(ax, curve, x, route_km, required_probability):
     hi_x = x[min(inside[-1] + 2, x.size - 1)]
     lo_x, hi_x = min(lo_x, route_km), max(hi_x, route_km)
     pad = 0.05 * (hi_x - lo_x or 1.0)
-    inset = ax.inset_axes([0.62, 0.52, 0.36, 0.42])
+    # the lower left (short ranges, low P) is empty under any survival curve
+    inset = ax.inset_axes([0.09, 0.1, 0.4, 0.42])
     _draw_range_curve(inset, curve, x, route_km, required_probability, legend=False)
     inset.set_xlim(lo_x - pad, hi_x + pad)
     inset.set_ylim(bottom, 1.0 + 0.01 * (1.0 - bottom))

@@ -27,14 +27,10 @@ def render_study_html(result, *, record: dict[str, Any] | None = None,
     """
     record = result.to_dict() if record is None else record
     frame = result.to_frame()
-    rows = frame.astype(object).where(frame.notna(), None).to_dict("records")
+    rows = _page_rows(result, frame)
     fields = list(result.study.fields)
     grid = result.study.layout == "grid"
-    for i, r in enumerate(rows):
-        # a grid variant's name only repeats its parameters, which have their own columns
-        r["label"] = f"#{i + 1}" if grid else r["variant"]
-    conf = result.variants[0].verdict.confidence if result.variants else 0.95
-    required = result.variants[0].verdict.required_probability if result.variants else None
+    conf, required = _decision(result)
     heatmap = _heatmap(frame, fields, required) if grid and required is not None else None
     return render_page(
         "study.html.j2", fmt=Formatter(),
@@ -46,6 +42,25 @@ def render_study_html(result, *, record: dict[str, Any] | None = None,
         ranking_label=record["ranking"]["measure"], ranking_rows=record["ranking"]["rows"],
         confidence_pct=f"{conf * 100:g} %",
         cautions=list(CAUTIONS) + [c for c in cautions if c not in CAUTIONS])
+
+
+def _page_rows(result, frame=None) -> list[dict]:
+    """The study's rows as plain dicts (None for missing), each with its page ``label``."""
+    frame = result.to_frame() if frame is None else frame
+    rows = frame.astype(object).where(frame.notna(), None).to_dict("records")
+    grid = result.study.layout == "grid"
+    for i, r in enumerate(rows):
+        # a grid variant's name only repeats its parameters, which have their own columns
+        r["label"] = f"#{i + 1}" if grid else r["variant"]
+    return rows
+
+
+def _decision(result) -> tuple[float, float | None]:
+    """Confidence level and required probability of the study's verdicts."""
+    if not result.variants:
+        return 0.95, None
+    v = result.variants[0].verdict
+    return v.confidence, v.required_probability
 
 
 def best_variant_sentence(rows, fields, required, confidence) -> str:
@@ -123,6 +138,8 @@ def write_study(result, out_dir: str | os.PathLike, *, overwrite: bool = False,
     """
     record = result.to_dict()
     record["cautions"] = list(cautions)
+    record["best_variant_sentence"] = best_variant_sentence(
+        _page_rows(result), list(result.study.fields), _decision(result)[1], _decision(result)[0])
 
     def build(folder: Path) -> None:
         write_csv(result.to_frame(), folder / "study.csv")
