@@ -114,3 +114,26 @@ def test_study_heat_map_has_one_cell_per_variant():
     fig = figures.study_heatmaps_figure(frame, ["a", "b"], required_probability=0.9)
     assert fig is not None
     assert figures.study_heatmaps_figure(frame, ["a"], required_probability=0.9) is None
+
+
+def test_study_page_names_variants_once_shows_percent_and_a_heat_map():
+    from uq.report.study import render_study_html
+    from uq.scenario.study_file import parse_study
+    from uq.studies.batch import run_study
+
+    study = parse_study({"study": {"name": "page", "scenario": "under_ice_section.toml",
+                                   "samples": 256, "seed": 4, "scheme": "sobol",
+                                   "replicates": 2},
+                         "grid": {"setpoint.speed_m_s": [1.2, 1.5],
+                                  "battery.nominal_energy_Wh": [15000.0, 18000.0]}},
+                        base_dir=ROOT / "configs")
+    result = run_study(study)
+    html = render_study_html(result)
+    body = html.split('<section id="variants">')[1]
+    assert "speed_m_s=1.2" not in html  # the parameters are columns, not repeated in names
+    assert "<td>#1</td>" in body and "<td>#4</td>" in body
+    first = result.variants[0].p_success
+    assert f"{100 * first.estimate:.1f} %" in body or f"{100 * first.estimate:.2f} %" in body
+    assert f"{first.estimate:.4f}" not in body  # never a bare fraction
+    assert '<section id="heatmap">' in html and 'class="scroll"' in html
+    assert ("Best variant meeting the required" in html) or ("No variant meets" in html)
