@@ -49,7 +49,7 @@ def nominal_dict(nominal) -> dict[str, Any]:
 
 
 def contingency_dict(contingency) -> dict[str, Any] | None:
-    """The contingency in summary.json's words: ``reached_recovery`` (count) for the samples
+    """The contingency (or recovery-window booking) in summary.json's words: ``reached_recovery`` (count) for the samples
     that reached the recovery point; its probability is the one at ``p_reached_recovery``
     (one computation), so the contingency carries no second copy of it."""
     if contingency is None:
@@ -59,7 +59,8 @@ def contingency_dict(contingency) -> dict[str, Any] | None:
                 "probability_of_arrival_high"):
         out.pop(key, None)
     out["reached_recovery"] = out.pop("arrived")
-    out["not_reached_recovery"] = out.pop("not_arrived")
+    if "not_arrived" in out:
+        out["not_reached_recovery"] = out.pop("not_arrived")
     return out
 
 
@@ -167,7 +168,7 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
                           "quantiles": [interval_dict(q) for q in prop.duration_quantiles]},
         "mean_margin_Wh": interval_dict(prop.mean_margin_Wh),
         "contingency": contingency_dict(a.contingency),
-        "recovery_window": a.recovery.to_dict() if a.recovery is not None else None,
+        "recovery_window": contingency_dict(a.recovery),
         "pilot_actions": a.flight.to_dict() if a.flight is not None else None,
         "sensitivity_ranking": a.sensitivity_ranking(),
         "sensitivity_order": _order(a),
