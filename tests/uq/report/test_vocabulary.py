@@ -207,7 +207,7 @@ def test_counts_on_the_page_match_the_json(run):
     own = next(r for r in sweep_rows[1:] if float(r[0].split()[0]) == run["own"])
     assert _count(own[header.index("Successes [samples]")]) == successes
     assert _count(own[header.index("Reached recovery [samples]")]) == reached
-    assert _agrees(own[header.index("P(success)")].rstrip(" %"), s["p_success"]["estimate"])
+    assert _agrees(own[header.index("P(success) [%]")].rstrip(" %"), s["p_success"]["estimate"])
     pair_rows = page.rows("comparison")
     first = next(r for r in pair_rows if r and r[0] == s["scenario"]["name"])
     assert _count(first[1]) == successes
