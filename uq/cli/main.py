@@ -367,7 +367,7 @@ def _cmd_sweep(args, console: Console) -> int:
         assessment = _assess(args, scenario, console, executor)
         console.message(f"sweeping {field} over {len(args.values)} values...")
         sweep = studies.sweep_setpoint(scenario, field, args.values,
-                                       settings=assessment.settings, executor=executor)
+                                       reference=assessment, executor=executor)
     folder = _report(args, assessment, out, console, sweep=sweep)
     console.result(sweep.summary.sentence)
     _finish(console, assessment, folder)
@@ -388,7 +388,7 @@ def _cmd_compare(args, console: Console) -> int:
     with _executor(args) as executor:
         assessment = _assess(args, a, console, executor)
         console.message(f"comparing {a.name} with {b.name} on shared samples...")
-        comparison = studies.compare_scenarios(a, b, settings=assessment.settings,
+        comparison = studies.compare_scenarios(a, b, reference=assessment,
                                                force=args.force, executor=executor)
     folder = _report(args, assessment, out, console, comparison=comparison)
     console.result(comparison.comparison.sentence)

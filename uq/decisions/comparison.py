@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
+from typing import Any
 from dataclasses import dataclass
 
 import numpy as np
@@ -117,6 +118,7 @@ def sweep_summary(
     margin_unit: str = "Wh",
     replicates: int = 1,
     randomised: bool = False,
+    reference: tuple[int, Any] | None = None,
 ) -> SweepSummary:
     """Summarise a sweep over a mission setpoint and recommend a robust choice.
 
@@ -147,6 +149,9 @@ def sweep_summary(
         True when those plans are independent randomised-QMC replicates; P(success) and the
         mean margin then use the replicate rules of :mod:`uq.estimators.replicates`, the
         same as an assessment of the same samples.
+    reference : (index, estimate), optional
+        The row that is the assessed configuration itself and the assessment's P(success)
+        estimate (e.g. from its rare-event stage): that row states the verdict's number.
 
     Returns
     -------
@@ -167,8 +172,10 @@ def sweep_summary(
         raise ShapeMismatchError(f"expected all of shape (m={sp.size} setpoints, n samples); got {shapes}")
     _check_replicates(replicates, s.shape[1])
     s, a = s.astype(bool), a.astype(bool)
+    given = dict([reference]) if reference is not None else {}
     rows = [_sweep_row(sp[i], s[i], d[i], a[i], mg[i], p_star=p_star, dq=dq,
-                       confidence=confidence, replicates=replicates, randomised=randomised)
+                       confidence=confidence, replicates=replicates, randomised=randomised,
+                       estimate=given.get(i))
             for i in range(sp.size)]  # setpoints, not samples
     best = _robust_index(rows)
     sentence = _sweep_sentence(rows, best, setpoint_name=setpoint_name, unit=unit, p_star=p_star,
@@ -226,11 +233,13 @@ def replicate_mean(values, *, replicates: int = 1, randomised: bool = False,
 
 
 def _sweep_row(setpoint: float, success, duration_days, arrived, margin, *, p_star: float,
-               dq: float, confidence: float, replicates: int, randomised: bool) -> SweepRow:
+               dq: float, confidence: float, replicates: int, randomised: bool,
+               estimate=None) -> SweepRow:
     """P(success), the duration quantile of those that reached recovery and the mean margin
     at one setpoint."""
-    p = replicate_success(success, replicates=replicates, randomised=randomised,
-                          confidence=confidence)
+    counted = replicate_success(success, replicates=replicates, randomised=randomised,
+                                confidence=confidence)
+    p = counted if estimate is None else estimate
     t = np.sort(duration_days[arrived])
     if t.size:
         if not np.all(np.isfinite(t)):
@@ -244,7 +253,7 @@ def _sweep_row(setpoint: float, success, duration_days, arrived, margin, *, p_st
     return SweepRow(
         setpoint=float(setpoint),
         samples=int(success.size),
-        successes=int(p.count),
+        successes=int(counted.count),
         p_success=float(p.estimate),
         p_success_low=float(p.lower),
         p_success_high=float(p.upper),
@@ -415,6 +424,7 @@ def paired_comparison(
     randomised: bool = False,
     required_probability: float | None = None,
     cautions: Sequence[str] = (),
+    reference_a=None,
 ) -> PairedComparison:
     """Compare two configurations run on the same input samples.
 
@@ -435,6 +445,9 @@ def paired_comparison(
         Requirement on P(success) [-]: each configuration then gets its verdict.
     cautions : sequence of str
         Cautions carried with the result (e.g. a pair compared with ``force``).
+    reference_a : estimate, optional
+        A's own assessment's P(success) (e.g. from its rare-event stage): A then states the
+        verdict's number and verdict.
 
     Returns
     -------
@@ -454,7 +467,8 @@ def paired_comparison(
         raise ShapeMismatchError(f"names={names!r}: expected two names")
     na, nb_ = (str(x) for x in names)
     layout = {"replicates": replicates, "randomised": randomised, "confidence": confidence}
-    pa = replicate_success(sa, **layout)
+    counted_a = replicate_success(sa, **layout)
+    pa = counted_a if reference_a is None else reference_a
     pb = replicate_success(sb, **layout)
     diff, diff_lo, diff_hi = replicate_mean(sa.astype(float) - sb.astype(float), **layout)
     verdict_a = verdict_b = None
@@ -485,7 +499,7 @@ def paired_comparison(
     return PairedComparison(
         names=(na, nb_),
         samples=n,
-        successes_a=int(pa.count),
+        successes_a=int(counted_a.count),
         successes_b=int(pb.count),
         p_success_a=float(pa.estimate),
         p_success_a_low=float(pa.lower),

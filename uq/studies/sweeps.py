@@ -128,8 +128,8 @@ def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int | 
     """Outcomes of every scenario on one shared plan (common random numbers by input name).
 
     The plan is an assessment's plan (``settings``, or the first scenario's ``[analysis]``
-    with ``samples``/``seed``/``scheme``/``replicates`` overriding it): the same replicates, seed and block
-    size, drawn over the union of the input names (the first scenario's inputs first). A
+    with ``samples``/``seed``/``scheme``/``replicates`` overriding it): the same replicates,
+    seed and block size, drawn over the union of the input names (the first scenario's inputs first). A
     configuration whose inputs are that union therefore runs on exactly the rows its own
     assessment runs on, and gets the same P(success). The plan's unit points are correlated
     once over the union; each configuration maps the columns of its own inputs through its own
@@ -208,16 +208,21 @@ class SweepResult:
 
 def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
                    samples: int | None = None, seed: int | None = None,
-                   scheme: str | None = None, settings=None, executor=None) -> SweepResult:
+                   scheme: str | None = None, settings=None, reference=None,
+                   executor=None) -> SweepResult:
     """P(success), P90 duration and mean margin over setpoint values, on the samples an
     assessment of ``scenario`` runs on (``settings``: an assessment's
     :class:`uq.studies.propagation.Settings`, e.g. ``assessment.settings``; by default the
     scenario's ``[analysis]`` with ``samples``/``seed``/``scheme`` overriding it), through
     the same P(success) rule: at the scenario's own setpoint the sweep repeats its verdict's
-    number exactly (``executor``: see :func:`evaluate_on_shared_samples`)."""
+    number exactly. ``reference``: the assessment of ``scenario`` itself (its settings are
+    then the plan, and the row at its own setpoint states its P(success) estimate, also when
+    a rare-event stage gave it) (``executor``: see :func:`evaluate_on_shared_samples`)."""
     values = tuple(float(v) for v in values)
     if not values:
         raise StudyError("a sweep needs at least one setpoint value")
+    if reference is not None:
+        settings = reference.settings
     if settings is None:
         settings = plan_settings(scenario, samples=samples, seed=seed, scheme=scheme)
     variants = [with_setpoint(scenario, field, v) for v in values]
@@ -235,11 +240,25 @@ def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
         deterministic_optimum=deterministic_optimum(scenario, field),
         margin_unit="Wh",
         replicates=settings.replicates, randomised=settings.scheme == "sobol",
+        reference=_reference_row(scenario, field, values, reference),
     )
     nominal_margins = tuple(float(nominal(v).outcome["margin_Wh"]) for v in variants)
     return SweepResult(field=field, values=values, summary=summary,
                        nominal_margin_Wh=nominal_margins, samples=settings.samples,
                        seed=settings.seed)
+
+
+def _reference_row(scenario: Scenario, field: str, values, reference):
+    """(index of the swept value that is the assessed configuration, its P(success)), or None."""
+    if reference is None or field in scenario.input_names:
+        return None
+    own = getattr(scenario.setpoint, field.split(".", 1)[1], None)
+    if not isinstance(own, (int, float)):
+        return None
+    for i, v in enumerate(values):
+        if np.isclose(v, own, rtol=1e-12, atol=0.0):
+            return i, reference.propagation.p_success
+    return None
 
 
 @dataclass(frozen=True)
@@ -273,20 +292,24 @@ def comparability_problem(a: Scenario, b: Scenario) -> str | None:
 
 def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
                       seed: int | None = None, scheme: str | None = None, settings=None,
-                      force: bool = False, executor=None) -> ComparisonResult:
+                      reference=None, force: bool = False,
+                      executor=None) -> ComparisonResult:
     """Paired comparison of two configurations on shared samples of their common inputs.
 
     The plan is the one an assessment of ``a`` runs on (``settings``, see
     :func:`sweep_setpoint`), so A's P(success) is its verdict's number whenever B adds no
     input of its own. Pairs that are not comparable (:func:`comparability_problem`) are
-    refused with :class:`StudyError` unless ``force``, which records a caution instead
-    (``executor``: see :func:`evaluate_on_shared_samples`)."""
+    refused with :class:`StudyError` unless ``force``, which records a caution instead.
+    ``reference``: the assessment of ``a`` (its settings are the plan, and A states its
+    P(success) estimate and verdict) (``executor``: see :func:`evaluate_on_shared_samples`)."""
     problem = comparability_problem(a, b)
     cautions = ()
     if problem is not None:
         if not force:
             raise StudyError(f"not comparable: {problem} (pass --force to compare anyway)")
         cautions = (f"Compared although not comparable: {problem}.",)
+    if reference is not None:
+        settings = reference.settings
     if settings is None:
         settings = plan_settings(a, samples=samples, seed=seed, scheme=scheme)
     out_a, out_b = evaluate_on_shared_samples([a, b], settings=settings, executor=executor)
@@ -296,7 +319,8 @@ def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
         out_a["route_energy_per_km_Wh"], out_b["route_energy_per_km_Wh"],
         names=names, confidence=settings.p_success_confidence,
         replicates=settings.replicates, randomised=settings.scheme == "sobol",
-        required_probability=a.decision.required_probability, cautions=cautions)
+        required_probability=a.decision.required_probability, cautions=cautions,
+        reference_a=None if reference is None else reference.propagation.p_success)
     shared = tuple(n for n in a.input_names if n in b.input_names)
     return ComparisonResult(names=names, comparison=comparison, shared_inputs=shared,
                             samples=settings.samples, seed=settings.seed)
