@@ -34,6 +34,7 @@ from uq.scenario import (
 __all__ = [
     "SECONDS_PER_DAY",
     "FAILURE_MODE_NAMES",
+    "possible_failure_modes",
     "FailureMode",
     "Outcomes",
     "ScenarioModel",
@@ -267,6 +268,32 @@ def _ice_legs(scenario: Scenario):
     for name in scenario.under_ice.safe_exits_after:
         exits[names.index(name) + 1] = True
     return ice, exits
+
+
+#: failure modes only the glider model can produce
+_GLIDER_ONLY = (FailureMode.INFEASIBLE_GLIDE, FailureMode.CANNOT_TRIM,
+                FailureMode.CANNOT_HOLD_FLIGHT)
+
+
+def possible_failure_modes(scenario: Scenario) -> dict[int, str]:
+    """Code -> name of the failure modes the transit model can give ``scenario``: glider-only
+    modes only for gliders, turning back only with a leg under ice, the duration limit only
+    when there is one."""
+    ice, _ = _ice_legs(scenario)
+    limit = scenario.limits.max_duration_days
+    out = {}
+    for mode, name in FAILURE_MODE_NAMES.items():
+        if mode == FailureMode.NONE:
+            continue
+        if mode in _GLIDER_ONLY and scenario.vehicle.kind != "glider":
+            continue
+        if mode == FailureMode.TURNED_BACK and not ice.any():
+            continue
+        if mode == FailureMode.TIME_LIMIT and isinstance(limit, (int, float)) \
+                and limit == float("inf"):
+            continue
+        out[int(mode)] = name
+    return out
 
 
 def _hotel(scenario: Scenario, f: _Fields) -> np.ndarray:

@@ -174,6 +174,9 @@ def build_parser() -> argparse.ArgumentParser:
                                    "samples; the report of A gets a comparison section.")
     p.add_argument("scenario", metavar="SCENARIO_A", help="scenario file (TOML)")
     p.add_argument("other", metavar="SCENARIO_B", help="scenario file (TOML)")
+    p.add_argument("--force", action="store_true",
+                   help="compare even a pair that is not comparable (other vehicle kind, or "
+                        "route lengths more than 5 %% apart), with a caution")
     p.set_defaults(func=_cmd_compare)
 
     p = sub.add_parser("starter", parents=[output],
@@ -366,8 +369,8 @@ def _cmd_sweep(args, console: Console) -> int:
     with _executor(args) as executor:
         assessment = _assess(args, scenario, console, executor)
         console.message(f"sweeping {field} over {len(args.values)} values...")
-        sweep = studies.sweep_setpoint(scenario, field, args.values, samples=args.samples,
-                                       seed=args.seed, executor=executor)
+        sweep = studies.sweep_setpoint(scenario, field, args.values,
+                                       reference=assessment, executor=executor)
     folder = _report(args, assessment, out, console, sweep=sweep)
     console.result(sweep.summary.sentence)
     _finish(console, assessment, folder)
@@ -379,12 +382,17 @@ def _cmd_compare(args, console: Console) -> int:
 
     a = _load(args.scenario)
     b = _load(args.other)
+    problem = studies.comparability_problem(a, b)
+    if problem is not None and not args.force:  # refused before any work
+        raise studies.StudyError(f"not comparable: {problem} (pass --force to compare anyway)")
+    if problem is not None:
+        console.message(f"caution: compared although not comparable: {problem}")
     out = _out_dir(args, a.name, console, f"-vs-{b.name}")
     with _executor(args) as executor:
         assessment = _assess(args, a, console, executor)
         console.message(f"comparing {a.name} with {b.name} on shared samples...")
-        comparison = studies.compare_scenarios(a, b, samples=args.samples, seed=args.seed,
-                                               executor=executor)
+        comparison = studies.compare_scenarios(a, b, reference=assessment,
+                                               force=args.force, executor=executor)
     folder = _report(args, assessment, out, console, comparison=comparison)
     console.result(comparison.comparison.sentence)
     _finish(console, assessment, folder)

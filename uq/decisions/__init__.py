@@ -20,8 +20,12 @@ from .comparison import (
     RatioQuantile,
     SweepRow,
     SweepSummary,
+    format_points,
     mcnemar_exact_p_value,
     paired_comparison,
+    replicate_mean,
+    replicate_success,
+    robust_choice,
     sweep_summary,
 )
 from .contingency import (
@@ -128,5 +132,9 @@ __all__ = [
     "RatioQuantile",
     "PairedComparison",
     "paired_comparison",
+    "format_points",
+    "replicate_success",
+    "replicate_mean",
+    "robust_choice",
     "mcnemar_exact_p_value",
 ]

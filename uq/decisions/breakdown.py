@@ -110,6 +110,7 @@ def failure_breakdown(
     leg_names: Sequence[str],
     confidence: float,
     no_failure_code: int = 0,
+    failure_probability: tuple[float, float, float] | None = None,
 ) -> FailureBreakdown:
     """Shares of all samples and of failures per failure mode and per leg.
 
@@ -127,6 +128,10 @@ def failure_breakdown(
         Two-sided confidence level of the Wilson intervals [-].
     no_failure_code : int
         Code of a sample that did not fail (default 0).
+    failure_probability : (estimate, low, high), optional
+        P(failure) with its interval when the caller has it from the one P(success) rule
+        (1 - P(success), bounds swapped), so the page states one number; by default the
+        Wilson interval on the count.
 
     Returns
     -------
@@ -171,10 +176,14 @@ def failure_breakdown(
         counts = leg_counts_all
     legs = _rows("leg", leg_codes, names, counts, n, n_fail, confidence)
 
-    p_lo, p_hi = _wilson(n_fail, n, confidence)
+    if failure_probability is None:
+        p_est = n_fail / n
+        p_lo, p_hi = _wilson(n_fail, n, confidence)
+    else:
+        p_est, p_lo, p_hi = (float(v) for v in failure_probability)
     pct = f"{confidence * 100:g} %"
     head = (
-        f"{n_fail:,} of {n:,} samples failed ({_fmt_prob(n_fail / n)}, "
+        f"{n_fail:,} of {n:,} samples failed ({_fmt_prob(p_est)}, "
         f"{pct} CI {_fmt_prob_interval(float(p_lo), float(p_hi))})"
     )
     dominant_mode = dominant_leg = None
@@ -193,7 +202,7 @@ def failure_breakdown(
     return FailureBreakdown(
         samples=n,
         failures=n_fail,
-        failure_probability=n_fail / n,
+        failure_probability=p_est,
         failure_probability_low=float(p_lo),
         failure_probability_high=float(p_hi),
         confidence=confidence,

@@ -3,10 +3,13 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
+from typing import Any
 from dataclasses import dataclass
 
 import numpy as np
 from scipy import stats
+
+from uq import estimators as _estimators
 
 from ._common import (
     DecisionInputError,
@@ -25,15 +28,20 @@ from ._common import (
     _same_length,
     _wilson,
 )
+from .verdict import Verdict, verdict_for
 
 __all__ = [
     "SweepRow",
     "SweepSummary",
     "sweep_summary",
+    "replicate_success",
+    "replicate_mean",
     "RatioQuantile",
     "PairedComparison",
     "paired_comparison",
     "mcnemar_exact_p_value",
+    "format_points",
+    "robust_choice",
 ]
 
 
@@ -42,31 +50,38 @@ __all__ = [
 class SweepRow:
     """Outcome at one setpoint.
 
-    ``setpoint`` [setpoint unit]; probabilities [-] with Wilson intervals; duration
-    quantile [d] over arrived samples with an order-statistic interval (``None`` where no
-    sample arrived or too few for the bound); mean margin [margin unit] with a t-interval.
+    ``setpoint`` [setpoint unit]; ``successes`` and ``reached_recovery`` are counts of
+    samples (a sample that reached the recovery point on its reserve counts as reached, not
+    as a success); ``p_success`` [-] with the interval of the one P(success) rule
+    (:func:`uq.estimators.success_probability`); duration quantile [d] over the samples that
+    reached recovery, with an order-statistic interval (``None`` where none did or too few
+    for the bound); mean margin [Wh] with the interval of the one mean rule.
     """
 
     setpoint: float
-    probability_of_success: float
-    probability_low: float
-    probability_high: float
+    samples: int
+    successes: int
+    p_success: float
+    p_success_low: float
+    p_success_high: float
     meets_requirement: bool  # lower bound >= required probability
-    arrived: int
+    reached_recovery: int
     duration_quantile_days: float | None
     duration_quantile_days_low: float | None
     duration_quantile_days_high: float | None
-    mean_margin: float
-    mean_margin_low: float | None
-    mean_margin_high: float | None
+    mean_margin_Wh: float
+    mean_margin_Wh_low: float | None
+    mean_margin_Wh_high: float | None
 
 
 @dataclass(frozen=True)
 class SweepSummary(_ResultMixin):
-    """Sweep table and robust recommendation.
+    """Sweep table and recommendation.
 
-    The robust setpoint maximises the lower confidence bound of P(success); ties (equal to
-    12 significant digits) go to the shortest duration quantile.
+    ``robust_setpoint`` maximises the lower confidence bound of P(success) (ties to the
+    larger mean margin, then the shorter duration quantile). ``recommended_setpoint`` is the
+    same value when its lower bound meets the requirement, else ``None``: nothing is
+    recommended when no swept value meets it.
     """
 
     setpoint_name: str
@@ -78,6 +93,7 @@ class SweepSummary(_ResultMixin):
     rows: tuple[SweepRow, ...]
     robust_setpoint: float
     robust_index: int
+    recommended_setpoint: float | None
     deterministic_optimum: float | None
     sentence: str
 
@@ -100,6 +116,9 @@ def sweep_summary(
     deterministic_optimum: float | None = None,
     duration_quantile: float = 0.9,
     margin_unit: str = "Wh",
+    replicates: int = 1,
+    randomised: bool = False,
+    reference: tuple[int, Any] | None = None,
 ) -> SweepSummary:
     """Summarise a sweep over a mission setpoint and recommend a robust choice.
 
@@ -108,9 +127,9 @@ def sweep_summary(
     setpoints : array_like, shape (m,)
         Setpoint values [unit].
     success, arrived : array_like of bool, shape (m, n)
-        Outcome per setpoint and sample.
+        Success and "reached the recovery point" per setpoint and sample.
     duration_days : array_like, shape (m, n)
-        Transit duration [d] (only arrived samples are used).
+        Transit duration [d] (only samples that reached recovery are used).
     margin : array_like, shape (m, n)
         Energy margin at arrival or at the end of range [margin_unit].
     required_probability : float
@@ -124,6 +143,15 @@ def sweep_summary(
         Quantile of arrival duration to tabulate (default 0.9, "P90") [-].
     margin_unit : str
         Unit of ``margin``.
+    replicates : int, default 1
+        The n samples are ``replicates`` equal consecutive plans (plan order).
+    randomised : bool, default False
+        True when those plans are independent randomised-QMC replicates; P(success) and the
+        mean margin then use the replicate rules of :mod:`uq.estimators.replicates`, the
+        same as an assessment of the same samples.
+    reference : (index, estimate), optional
+        The row that is the assessed configuration itself and the assessment's P(success)
+        estimate (e.g. from its rare-event stage): that row states the verdict's number.
 
     Returns
     -------
@@ -142,9 +170,13 @@ def sweep_summary(
     shapes = {"success": s.shape, "duration_days": d.shape, "arrived": a.shape, "margin": mg.shape}
     if s.ndim != 2 or s.shape[0] != sp.size or s.shape[1] == 0 or len(set(shapes.values())) != 1:
         raise ShapeMismatchError(f"expected all of shape (m={sp.size} setpoints, n samples); got {shapes}")
+    _check_replicates(replicates, s.shape[1])
     s, a = s.astype(bool), a.astype(bool)
+    given = dict([reference]) if reference is not None else {}
     rows = [_sweep_row(sp[i], s[i], d[i], a[i], mg[i], p_star=p_star, dq=dq,
-                       confidence=confidence) for i in range(sp.size)]  # setpoints, not samples
+                       confidence=confidence, replicates=replicates, randomised=randomised,
+                       estimate=given.get(i))
+            for i in range(sp.size)]  # setpoints, not samples
     best = _robust_index(rows)
     sentence = _sweep_sentence(rows, best, setpoint_name=setpoint_name, unit=unit, p_star=p_star,
                                dq=dq, confidence=confidence,
@@ -160,17 +192,54 @@ def sweep_summary(
         rows=tuple(rows),
         robust_setpoint=r.setpoint,
         robust_index=int(best),
+        recommended_setpoint=r.setpoint if r.meets_requirement else None,
         deterministic_optimum=None if deterministic_optimum is None else float(deterministic_optimum),
         sentence=sentence,
     )
 
 
+def _check_replicates(replicates: int, n: int) -> None:
+    if int(replicates) < 1 or n % int(replicates):
+        raise ShapeMismatchError(
+            f"replicates={replicates}: expected a whole number of equal plans in {n} samples")
+
+
+def replicate_success(success, *, replicates: int = 1, randomised: bool = False,
+                      confidence: float = 0.95) -> _estimators.ProbabilityEstimate:
+    """P(success) of per-sample outcomes laid out as ``replicates`` equal consecutive plans,
+    by the one rule (:func:`uq.estimators.success_probability`)."""
+    s = np.asarray(success, dtype=bool)
+    _check_replicates(replicates, s.size)
+    counts = [(int(np.count_nonzero(part)), part.size)
+              for part in np.split(s, int(replicates))]
+    return _estimators.success_probability(counts, randomised=randomised,
+                                           confidence=confidence)
+
+
+def replicate_mean(values, *, replicates: int = 1, randomised: bool = False,
+                   confidence: float = 0.95):
+    """Mean of per-sample values over ``replicates`` equal consecutive plans, by the one mean
+    rule (:func:`uq.estimators.replicated_mean`); bounds ``None`` with too few values."""
+    x = np.asarray(values, dtype=float)
+    _check_replicates(replicates, x.size)
+    parts = np.split(x, int(replicates))
+    if not randomised and replicates > 1:
+        parts = [x]
+    if (len(parts) == 1 and x.size < 2):
+        return float(np.mean(x)), None, None
+    est = _estimators.replicated_mean(parts, randomised=randomised and replicates > 1,
+                                      confidence=confidence)
+    return est.estimate, est.lower, est.upper
+
+
 def _sweep_row(setpoint: float, success, duration_days, arrived, margin, *, p_star: float,
-               dq: float, confidence: float) -> SweepRow:
-    """P(success), the duration quantile of the arrived and the mean margin at one setpoint."""
-    n = success.size
-    k = int(np.count_nonzero(success))
-    lo, hi = _wilson(k, n, confidence)
+               dq: float, confidence: float, replicates: int, randomised: bool,
+               estimate=None) -> SweepRow:
+    """P(success), the duration quantile of those that reached recovery and the mean margin
+    at one setpoint."""
+    counted = replicate_success(success, replicates=replicates, randomised=randomised,
+                                confidence=confidence)
+    p = counted if estimate is None else estimate
     t = np.sort(duration_days[arrived])
     if t.size:
         if not np.all(np.isfinite(t)):
@@ -179,50 +248,67 @@ def _sweep_row(setpoint: float, success, duration_days, arrived, margin, *, p_st
         dq_est, dq_lo, dq_hi = _quantile_with_interval(t, dq, confidence)
     else:
         dq_est = dq_lo = dq_hi = None
-    mm, mm_lo, mm_hi = _mean_t_interval(margin, confidence)
+    mm, mm_lo, mm_hi = replicate_mean(margin, replicates=replicates, randomised=randomised,
+                                      confidence=confidence)
     return SweepRow(
         setpoint=float(setpoint),
-        probability_of_success=k / n,
-        probability_low=float(lo),
-        probability_high=float(hi),
-        meets_requirement=bool(lo >= p_star),
-        arrived=int(t.size),
+        samples=int(success.size),
+        successes=int(counted.count),
+        p_success=float(p.estimate),
+        p_success_low=float(p.lower),
+        p_success_high=float(p.upper),
+        meets_requirement=bool(p.lower >= p_star),
+        reached_recovery=int(t.size),
         duration_quantile_days=dq_est,
         duration_quantile_days_low=dq_lo,
         duration_quantile_days_high=dq_hi,
-        mean_margin=mm,
-        mean_margin_low=mm_lo,
-        mean_margin_high=mm_hi,
+        mean_margin_Wh=mm,
+        mean_margin_Wh_low=mm_lo,
+        mean_margin_Wh_high=mm_hi,
     )
 
 
+def robust_choice(p_success_low, mean_margin=None, duration=None) -> int:
+    """Index of the robust choice among configurations: the highest lower bound of
+    P(success); ties (equal to 12 significant digits, e.g. all 1.0 when uncertainty is
+    small) go to the larger mean energy margin, then to the shorter duration. ``None``
+    entries rank last. The one rule for sweeps and studies."""
+    m = len(p_success_low)
+
+    def value(seq, i, sign):
+        v = None if seq is None else seq[i]
+        return np.inf if v is None or not np.isfinite(v) else sign * float(f"{v:.12g}")
+
+    key = [(value(p_success_low, i, -1), value(mean_margin, i, -1), value(duration, i, 1))
+           for i in range(m)]
+    return min(range(m), key=lambda i: key[i])
+
+
 def _robust_index(rows) -> int:
-    """The robust choice: the highest lower bound of P(success); ties (e.g. all 1.0 when
-    uncertainty is small) go to the larger mean energy margin, then to the shorter duration
-    quantile."""
-    key = [
-        (-float(f"{r.probability_low:.12g}"),
-         -float(f"{r.mean_margin:.12g}") if r.mean_margin is not None else np.inf,
-         np.inf if r.duration_quantile_days is None else r.duration_quantile_days)
-        for r in rows
-    ]
-    return min(range(len(rows)), key=lambda i: key[i])
+    return robust_choice([r.p_success_low for r in rows], [r.mean_margin_Wh for r in rows],
+                         [r.duration_quantile_days for r in rows])
 
 
 def _sweep_sentence(rows, best: int, *, setpoint_name: str, unit: str, p_star: float, dq: float,
                     confidence: float, deterministic_optimum) -> str:
-    """The recommendation, with the deterministic optimum beside it when given."""
+    """The recommendation (none when no value meets the requirement), with the
+    deterministic optimum beside it when given."""
     r = rows[best]
     pct = f"{confidence * 100:g} %"
     u = f" {unit}" if unit else ""
     pq = f"P{dq * 100:g}"
-    meets = "meets" if r.meets_requirement else "does NOT meet"
-    sentence = (
-        f"Set {setpoint_name} to {r.setpoint:g}{u} (robust choice: highest lower bound of P(success), ties to the larger mean margin): "
-        f"P(success) {_fmt_prob(r.probability_of_success)} ({pct} CI "
-        f"{_fmt_prob_interval(r.probability_low, r.probability_high)}), which {meets} the required "
-        f"{_fmt_prob(p_star)}; {pq} duration {_fmt_num(r.duration_quantile_days)} d."
-    )
+    figures = (f"P(success) {_fmt_prob(r.p_success)} ({pct} CI "
+               f"{_fmt_prob_interval(r.p_success_low, r.p_success_high)})")
+    if r.meets_requirement:
+        sentence = (
+            f"Set {setpoint_name} to {r.setpoint:g}{u} (robust choice: highest lower bound of "
+            f"P(success), ties to the larger mean margin): {figures}, which meets the required "
+            f"{_fmt_prob(p_star)}; {pq} duration {_fmt_num(r.duration_quantile_days)} d.")
+    else:
+        sentence = (
+            f"No swept value of {setpoint_name} meets the required {_fmt_prob(p_star)} on the "
+            f"lower bound, so none is recommended; the highest lower bound is at "
+            f"{r.setpoint:g}{u}: {figures}.")
     if deterministic_optimum is None:
         return sentence
     det = float(deterministic_optimum)
@@ -231,8 +317,8 @@ def _sweep_sentence(rows, best: int, *, setpoint_name: str, unit: str, p_star: f
         return sentence + f" The deterministic optimum is {det:g}{u} (not among the swept setpoints)."
     q = match[0]
     return sentence + (
-        f" The deterministic optimum {det:g}{u} gives P(success) {_fmt_prob(q.probability_of_success)} "
-        f"({pct} CI {_fmt_prob_interval(q.probability_low, q.probability_high)}), {pq} duration "
+        f" The deterministic optimum {det:g}{u} gives P(success) {_fmt_prob(q.p_success)} "
+        f"({pct} CI {_fmt_prob_interval(q.p_success_low, q.p_success_high)}), {pq} duration "
         f"{_fmt_num(q.duration_quantile_days)} d."
     )
 
@@ -266,15 +352,31 @@ class RatioQuantile:
 class PairedComparison(_ResultMixin):
     """Comparison of configurations A and B on the same input samples.
 
-    Probabilities [-] with Wilson intervals; ``mcnemar_p_value`` [-] is the exact two-sided
-    McNemar test on the discordant pairs; ratios of energy per distance A / B [-] over samples
-    where both are finite and B's is positive.
+    ``p_success_a`` / ``p_success_b`` [-] come from the one P(success) rule, each with its
+    verdict against the requirement; ``difference`` = P(success of A) - P(success of B) [-]
+    with the paired interval (the one mean rule on the per-sample difference of the success
+    indicators, :func:`uq.estimators.replicated_mean`). Discordant pairs: shares with Wilson
+    intervals and the exact two-sided McNemar p-value [-]. Ratios of energy per distance
+    A / B [-] over samples where both are finite and B's is positive.
     """
 
     names: tuple[str, str]
     samples: int
-    probability_success_a: float
-    probability_success_b: float
+    successes_a: int
+    successes_b: int
+    p_success_a: float
+    p_success_a_low: float
+    p_success_a_high: float
+    p_success_b: float
+    p_success_b_low: float
+    p_success_b_high: float
+    verdict_a: str | None
+    verdict_b: str | None
+    required_probability: float | None
+    difference: float
+    difference_low: float | None
+    difference_high: float | None
+    better: str | None  # the name of the better configuration; None when the interval spans 0
     a_only: int
     b_only: int
     probability_a_only: float
@@ -291,10 +393,21 @@ class PairedComparison(_ResultMixin):
     energy_ratio_quantiles: tuple[RatioQuantile, ...]
     confidence: float
     sentence: str
+    cautions: tuple[str, ...] = ()
 
     def to_frame(self):
         """Quantiles of the energy-per-km ratio A / B (pandas DataFrame)."""
         return _rows_frame(self.energy_ratio_quantiles)
+
+    def verdicts(self) -> dict[str, str | None]:
+        return {self.names[0]: self.verdict_a, self.names[1]: self.verdict_b}
+
+
+def format_points(x: float) -> str:
+    """A difference of probabilities in percentage points, signed: '+3.2' / '-0.40'."""
+    v = 100.0 * x
+    digits = 1 if abs(v) >= 1 or v == 0 else 2
+    return f"{v:+.{digits}f}".replace("-", "\u2212")
 
 
 def paired_comparison(
@@ -307,6 +420,11 @@ def paired_comparison(
     confidence: float,
     quantiles: Sequence[float] = (0.05, 0.5, 0.95),
     energy_unit: str = "Wh/km",
+    replicates: int = 1,
+    randomised: bool = False,
+    required_probability: float | None = None,
+    cautions: Sequence[str] = (),
+    reference_a=None,
 ) -> PairedComparison:
     """Compare two configurations run on the same input samples.
 
@@ -321,6 +439,15 @@ def paired_comparison(
     quantiles : sequence of float
         Quantiles of the ratio A / B to report [-].
     energy_unit : str
+    replicates, randomised :
+        Layout of the samples (see :func:`sweep_summary`): the same rules as an assessment.
+    required_probability : float, optional
+        Requirement on P(success) [-]: each configuration then gets its verdict.
+    cautions : sequence of str
+        Cautions carried with the result (e.g. a pair compared with ``force``).
+    reference_a : estimate, optional
+        A's own assessment's P(success) (e.g. from its rare-event stage): A then states the
+        verdict's number and verdict.
 
     Returns
     -------
@@ -339,6 +466,20 @@ def paired_comparison(
     if len(names) != 2:
         raise ShapeMismatchError(f"names={names!r}: expected two names")
     na, nb_ = (str(x) for x in names)
+    layout = {"replicates": replicates, "randomised": randomised, "confidence": confidence}
+    counted_a = replicate_success(sa, **layout)
+    pa = counted_a if reference_a is None else reference_a
+    pb = replicate_success(sb, **layout)
+    diff, diff_lo, diff_hi = replicate_mean(sa.astype(float) - sb.astype(float), **layout)
+    verdict_a = verdict_b = None
+    if required_probability is not None:
+        verdict_a = verdict_for(pa, required_probability=required_probability).verdict
+        verdict_b = verdict_for(pb, required_probability=required_probability).verdict
+    better = None
+    if diff_lo is not None and diff_lo > 0:
+        better = na
+    elif diff_hi is not None and diff_hi < 0:
+        better = nb_
     a_only = int(np.count_nonzero(sa & ~sb))
     b_only = int(np.count_nonzero(sb & ~sa))
     lo_a, hi_a = _wilson(a_only, n, confidence)
@@ -354,26 +495,25 @@ def paired_comparison(
         if ratio.size:
             est, lo, hi = _quantile_with_interval(ratio, q, confidence)
             rq.append(RatioQuantile(q, est, lo, hi))
-    pct = f"{confidence * 100:g} %"
-    sentence = (
-        f"On {n:,} shared samples, {na} succeeds where {nb_} fails in {_fmt_prob(a_only / n)} "
-        f"({pct} CI {_fmt_prob_interval(float(lo_a), float(hi_a))}) and {nb_} where {na} fails in "
-        f"{_fmt_prob(b_only / n)} ({pct} CI {_fmt_prob_interval(float(lo_b), float(hi_b))}); exact "
-        f"McNemar p = {p_value:.3g}. {na} uses less energy per km in {_fmt_prob(k_less / n)} of samples"
-    )
-    median = [r for r in rq if r.quantile == 0.5]
-    if median:
-        m = median[0]
-        sentence += (
-            f"; median energy-per-km ratio {na}/{nb_} {m.ratio:.3f} ({pct} CI "
-            f"{_fmt_num(m.ratio_low, 3)}–{_fmt_num(m.ratio_high, 3)})"
-        )
-    sentence += "."
+    sentence = _paired_sentence(na, nb_, pa, pb, diff, diff_lo, diff_hi, better, n, confidence)
     return PairedComparison(
         names=(na, nb_),
         samples=n,
-        probability_success_a=float(np.mean(sa)),
-        probability_success_b=float(np.mean(sb)),
+        successes_a=int(counted_a.count),
+        successes_b=int(pb.count),
+        p_success_a=float(pa.estimate),
+        p_success_a_low=float(pa.lower),
+        p_success_a_high=float(pa.upper),
+        p_success_b=float(pb.estimate),
+        p_success_b_low=float(pb.lower),
+        p_success_b_high=float(pb.upper),
+        verdict_a=verdict_a,
+        verdict_b=verdict_b,
+        required_probability=None if required_probability is None else float(required_probability),
+        difference=float(diff),
+        difference_low=None if diff_lo is None else float(diff_lo),
+        difference_high=None if diff_hi is None else float(diff_hi),
+        better=better,
         a_only=a_only,
         b_only=b_only,
         probability_a_only=a_only / n,
@@ -390,4 +530,25 @@ def paired_comparison(
         energy_ratio_quantiles=tuple(rq),
         confidence=confidence,
         sentence=sentence,
+        cautions=tuple(str(c) for c in cautions),
     )
+
+
+def _paired_sentence(na, nb, pa, pb, diff, lo, hi, better, n, confidence) -> str:
+    """Which configuration is better, by how much, with the paired interval: one sentence."""
+    pct = f"{confidence * 100:g} %"
+    both = (f"P(success) {_fmt_prob(pa.estimate)} for {na} against {_fmt_prob(pb.estimate)} "
+            f"for {nb}")
+    if lo is None or hi is None:
+        band = "no interval (too few samples)"
+    else:
+        band = f"{pct} CI {format_points(lo)} to {format_points(hi)}"
+    if better is None:
+        return (f"Neither configuration is clearly better: {both}, a paired difference of "
+                f"{format_points(diff)} percentage points ({band}) on {n:,} shared samples.")
+    worse = nb if better == na else na
+    gap = diff if better == na else -diff
+    band_b = band if better == na else (
+        f"{pct} CI {format_points(-hi)} to {format_points(-lo)}")
+    return (f"{better} is better than {worse} by {format_points(gap)[1:]} percentage points of "
+            f"P(success) ({band_b}, paired over {n:,} shared samples): {both}.")

@@ -47,9 +47,9 @@ class BookingRow:
     contingency_days: float
     contingency_days_low: float | None
     contingency_days_high: float | None
-    contingency_cost: float
-    contingency_cost_low: float | None
-    contingency_cost_high: float | None
+    contingency_cost_money: float
+    contingency_cost_money_low: float | None
+    contingency_cost_money_high: float | None
 
 
 @dataclass(frozen=True)
@@ -143,9 +143,9 @@ def _booking_row(t_sorted: np.ndarray, q: float, nominal_days: float, day_rate: 
         contingency_days=b - nominal_days,
         contingency_days_low=_shift(lo, nominal_days),
         contingency_days_high=_shift(hi, nominal_days),
-        contingency_cost=(b - nominal_days) * day_rate,
-        contingency_cost_low=_shift(lo, nominal_days, day_rate),
-        contingency_cost_high=_shift(hi, nominal_days, day_rate),
+        contingency_cost_money=(b - nominal_days) * day_rate,
+        contingency_cost_money_low=_shift(lo, nominal_days, day_rate),
+        contingency_cost_money_high=_shift(hi, nominal_days, day_rate),
     )
 
 
@@ -209,19 +209,18 @@ def ship_time_contingency(
     sentence = (
         f"Book {_fmt_num(b, dd)} days of ship time ({bq * 100:g} % quantile of arrival time, {ci_b}): "
         f"{_fmt_num(abs(booking.contingency_days), dd)} days {verb} the {_fmt_num(nominal_days, dd)}-day plan, "
-        f"{cost_word} {_fmt_money(abs(booking.contingency_cost))} {currency} at "
+        f"{cost_word} {_fmt_money(abs(booking.contingency_cost_money))} {currency} at "
         f"{_fmt_money(day_rate)} {currency}/day. Expected idle ship time {_fmt_num(idle, 2)} d "
         f"({pct} CI {_fmt_num(idle_lo, 2)}–{_fmt_num(idle_hi, 2)} d), expected overrun "
         f"{_fmt_num(over, 2)} d ({pct} CI {_fmt_num(over_lo, 2)}–{_fmt_num(over_hi, 2)} d)."
     )
     if m < n:
         sentence += (
-            f" {n - m:,} of {n:,} samples did not arrive (P(arrival) {_fmt_prob(m / n)}, "
-            f"{pct} CI {_fmt_prob_interval(float(pa_lo), float(pa_hi))}); arrival times are over "
-            f"the {m:,} that did."
+            f" {n - m:,} of {n:,} samples did not reach the recovery point; arrival times are "
+            f"over the {m:,} that reached it."
         )
     else:
-        sentence += f" All {n:,} samples arrived."
+        sentence += f" All {n:,} samples reached the recovery point."
     return ShipTimeContingency(
         nominal_days=float(nominal_days),
         day_rate=float(day_rate),
@@ -409,9 +408,7 @@ def recovery_window_booking(
         f"Keeping the ship with the vehicle to the window's end would book {_fmt_num(late.days, 1)} d."
     )
     if m < n:
-        sentence += (f" {n - m:,} of {n:,} samples did not reach the recovery point "
-                     f"(P(arrival) {_fmt_prob(m / n)}, {pct} CI "
-                     f"{_fmt_prob_interval(float(pa_lo), float(pa_hi))}).")
+        sentence += f" {n - m:,} of {n:,} samples did not reach the recovery point."
     return RecoveryWindowBooking(
         deployment_date=deployment_date.isoformat(),
         window_quantiles=(q_lo, q_hi),

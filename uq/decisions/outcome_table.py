@@ -82,7 +82,7 @@ class OutcomeTable:
     @property
     def p_returned(self) -> estimators.IntervalEstimate:
         """P(turned back under ice and returned to a safe exit)."""
-        return self.row(OutcomeClass.RETURNED_TO_SAFE_EXIT).probability
+        return self.row(OutcomeClass.TURNED_BACK_TO_SAFE_EXIT).probability
 
     def to_dicts(self) -> list[dict[str, Any]]:
         return [r.to_dict() for r in self.rows]
@@ -95,8 +95,8 @@ class OutcomeTable:
                     f"({p.confidence * 100:g} % CI {_fmt_prob_interval(p.lower, p.upper)})")
         text = (f"Outcomes: {part(OutcomeClass.SUCCESS, 'P(success)')}, "
                 f"{part(OutcomeClass.LOST_UNDER_ICE, 'P(lost under ice)')}; "
-                f"returned to a safe exit "
-                f"{_fmt_prob(self.row(OutcomeClass.RETURNED_TO_SAFE_EXIT).probability.estimate)}, "
+                f"turned back to a safe exit "
+                f"{_fmt_prob(self.row(OutcomeClass.TURNED_BACK_TO_SAFE_EXIT).probability.estimate)}, "
                 f"reached recovery on the reserve "
                 f"{_fmt_prob(self.row(OutcomeClass.RESERVE_BREACH).probability.estimate)}")
         if self.hardware is not None:

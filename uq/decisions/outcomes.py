@@ -30,7 +30,7 @@ class OutcomeClass(IntEnum):
     #: reached the recovery point later than the mission's duration limit
     LATE = 3
     #: aborted under ice at the point of no return and flew back to a safe exit: vehicle safe
-    RETURNED_TO_SAFE_EXIT = 4
+    TURNED_BACK_TO_SAFE_EXIT = 4
     #: neither recovered nor returned: the vehicle ends under the ice
     LOST_UNDER_ICE = 5
 
@@ -38,10 +38,10 @@ class OutcomeClass(IntEnum):
 #: plain-language names for sentences, tables and JSON
 OUTCOME_CLASS_NAMES = {
     OutcomeClass.SUCCESS: "success",
-    OutcomeClass.LOST: "lost vehicle (did not reach the recovery point)",
-    OutcomeClass.RESERVE_BREACH: "reached recovery but broke the reserve",
+    OutcomeClass.LOST: "lost in open water (stopped short of the recovery point)",
+    OutcomeClass.RESERVE_BREACH: "reached recovery on the reserve",
     OutcomeClass.LATE: "late beyond the time limit",
-    OutcomeClass.RETURNED_TO_SAFE_EXIT: "returned to a safe exit (aborted, vehicle safe)",
+    OutcomeClass.TURNED_BACK_TO_SAFE_EXIT: "turned back to a safe exit (aborted, vehicle safe)",
     OutcomeClass.LOST_UNDER_ICE: "lost under ice",
 }
 
@@ -77,7 +77,7 @@ def classify_outcomes(outcomes: Any) -> np.ndarray:
         an infeasible glide, or a pack that ran empty after the time limit passed); one that
         reaches it after the duration limit is LATE; one that reaches it on its reserve is
         RESERVE_BREACH. Under ice, a vehicle that turned back to a safe exit is
-        RETURNED_TO_SAFE_EXIT, and a lost one that ends under the ice is LOST_UNDER_ICE.
+        TURNED_BACK_TO_SAFE_EXIT, and a lost one that ends under the ice is LOST_UNDER_ICE.
     """
     success = _field(outcomes, "success").astype(bool)
     reaches = _field(outcomes, "reaches_recovery").astype(bool)
@@ -90,6 +90,6 @@ def classify_outcomes(outcomes: Any) -> np.ndarray:
     out[reaches & (mode == FailureMode.TIME_LIMIT)] = OutcomeClass.LATE
     out[~reaches] = OutcomeClass.LOST
     out[~reaches & _optional(outcomes, "lost_under_ice", success)] = OutcomeClass.LOST_UNDER_ICE
-    out[_optional(outcomes, "turned_back", success)] = OutcomeClass.RETURNED_TO_SAFE_EXIT
+    out[_optional(outcomes, "turned_back", success)] = OutcomeClass.TURNED_BACK_TO_SAFE_EXIT
     out[success] = OutcomeClass.SUCCESS
     return out

@@ -58,7 +58,7 @@ class TestRankingRow:
     name: str
     inputs: tuple[str, ...]
     residual_fraction: float
-    cost: float
+    cost_money: float
     value_kind: str | None  # "EVPPI", "EVSI" or None (variance-based fallback)
     value_money: float | None
     value_money_low: float | None
@@ -125,7 +125,7 @@ def _sobol_ranking(tests, st, currency, confidence, seed) -> TestRanking:
     rows = tuple(
         TestRankingRow(
             rank=i + 1, name=tc.name, inputs=tuple(tc.inputs), residual_fraction=float(tc.residual_fraction),
-            cost=float(tc.cost), value_kind=None, value_money=None, value_money_low=None,
+            cost_money=float(tc.cost), value_kind=None, value_money=None, value_money_low=None,
             value_money_high=None, net_value_money=None, net_value_money_low=None,
             net_value_money_high=None, money_flip_probability=None, flip_probability=None,
             flip_probability_low=None, flip_probability_high=None, band_after=None,
@@ -274,7 +274,7 @@ def rank_tests(
     rows = tuple(
         TestRankingRow(
             rank=i + 1, name=tc.name, inputs=tuple(tc.inputs), residual_fraction=float(tc.residual_fraction),
-            cost=float(tc.cost), value_kind=v.kind, value_money=v.value, value_money_low=v.value_low,
+            cost_money=float(tc.cost), value_kind=v.kind, value_money=v.value, value_money_low=v.value_low,
             value_money_high=v.value_high, net_value_money=v.value - tc.cost,
             net_value_money_low=None if v.value_low is None else v.value_low - tc.cost,
             net_value_money_high=None if v.value_high is None else v.value_high - tc.cost,
@@ -303,7 +303,7 @@ def _ranking_sentence(rows, current, currency, confidence, fund_none) -> str:
     if not fund_none:
         text = (
             f"Fund '{best.name}' first: its {best.value_kind} is {worth(best)} per decision against "
-            f"a cost of {format_money(best.cost, currency)}, a net value of "
+            f"a cost of {format_money(best.cost_money, currency)}, a net value of "
             f"{format_money(best.net_value_money, currency)}.")
     elif max(r.value_money for r in rows) == 0.0:
         text = (
@@ -316,7 +316,7 @@ def _ranking_sentence(rows, current, currency, confidence, fund_none) -> str:
             f"Fund none and decide now (the money favours '{current}'): no candidate test is "
             f"worth its cost; the "
             f"most valuable, '{top.name}', is worth {worth(top)} per decision against a cost of "
-            f"{format_money(top.cost, currency)}.")
+            f"{format_money(top.cost_money, currency)}.")
     flips = [r for r in rows if r.flip_probability is not None]
     if flips:
         f = max(flips, key=lambda r: (r.flip_probability, r.name == best.name))

@@ -11,7 +11,7 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["DASH", "finite_or_none", "json_safe", "Formatter"]
+__all__ = ["DASH", "MINUS", "finite_or_none", "json_safe", "Formatter", "input_label"]
 
 DASH = "\u2014"
 
@@ -112,6 +112,28 @@ class Formatter:
             text = f"{lo}\u2013{hi}"
         return f"{text} {unit}".rstrip() if unit else text
 
+    @staticmethod
+    def label(name: str) -> str:
+        """An input's readable label (:func:`input_label`)."""
+        return input_label(name)
+
+    @staticmethod
+    def ranked(indices) -> list[int]:
+        """Positions of a Sobol result's factors, largest total index first (NaN last)."""
+        import math
+
+        total = [float(t) for t in indices.total]
+        return sorted(range(len(total)),
+                      key=lambda i: (-total[i] if math.isfinite(total[i]) else math.inf, i))
+
+    def points(self, x: Any) -> str:
+        """A difference of probabilities in signed percentage points, e.g. ``+3.2`` or
+        ``\u22120.41``."""
+        from uq.decisions import format_points
+
+        v = finite_or_none(x)
+        return self._dash() if v is None else format_points(v)
+
     def money(self, x: Any, currency: str = "") -> str:
         """An amount by the decisions' display rule ("< 1 EUR" for tiny amounts)."""
         from uq.decisions import format_money
@@ -135,3 +157,41 @@ class Formatter:
             return self._dash()
         digits = self._pct_digits(lo, hi)
         return f"{self._pct_text(lo, digits)}\u2013{self._pct_text(hi, digits)} %"
+
+
+#: unit suffixes of scenario field names (the file convention) and how a page writes them
+_UNIT_SUFFIXES = (("_m_s", "m/s"), ("_h", "h"), ("_Wh", "Wh"), ("_W", "W"), ("_km", "km"), ("_m2", "m\u00b2"),
+                  ("_deg", "\u00b0"), ("_days", "d"), ("_C", "\u00b0C"), ("_N", "N"),
+                  ("_J", "J"), ("_s", "s"), ("_m", "m"))
+
+#: plain words for field names whose words alone are not clear
+_QUANTITY_WORDS = {"current_along": "current along track", "current_across": "current across track",
+                   "hotel_load": "hotel load", "practical_salinity": "practical salinity"}
+
+
+def input_label(name: str, *, wrap: bool = False) -> str:
+    """A readable label for an input's dotted name: leg, quantity, unit.
+
+    ``legs.front_and_recovery.current_along_m_s`` -> ``front and recovery: current along
+    track [m/s]``; ``vehicle.hull.appendage_factor`` -> ``hull appendage factor [-]``. A
+    correlated group (names joined by ``+``) becomes ``correlated group: a + b``, one member
+    a line when ``wrap``.
+    """
+    parts = [p.strip() for p in str(name).split("+") if p.strip()]
+    if len(parts) > 1:
+        sep = "\n  + " if wrap else " + "
+        return "correlated group:" + ("\n  " if wrap else " ") + sep.join(
+            input_label(p) for p in parts)
+    path = str(name).split(".")
+    field = path[-1]
+    unit = "-"
+    for suffix, text in _UNIT_SUFFIXES:
+        if field.endswith(suffix) and len(field) > len(suffix):
+            field, unit = field[: -len(suffix)], text
+            break
+    quantity = _QUANTITY_WORDS.get(field, field.replace("_", " "))
+    if path[0] == "legs" and len(path) >= 3:
+        return f"{path[1].replace('_', ' ')}: {quantity} [{unit}]"
+    owner = [p.replace("_", " ") for p in path[1:-1]] if path[0] == "vehicle" and len(path) > 2 \
+        else [p.replace("_", " ") for p in path[:-1]]
+    return " ".join([*owner, quantity]).strip() + f" [{unit}]"

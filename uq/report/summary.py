@@ -9,7 +9,7 @@ from typing import Any
 
 from uq.report._format import json_safe
 
-__all__ = ["SCHEMA_VERSION", "build_summary", "interval_dict", "nominal_dict", "run_cautions"]
+__all__ = ["SCHEMA_VERSION", "build_summary", "interval_dict", "nominal_dict", "run_cautions", "contingency_dict"]
 
 SCHEMA_VERSION = 1
 
@@ -39,12 +39,29 @@ def nominal_dict(nominal) -> dict[str, Any]:
         "duration_days": row["duration_days"],
         "margin_Wh": row["margin_Wh"],
         "margin_fraction": row["margin_fraction"],
-        "arrived": bool(row["arrived"]),
+        "reached_route_end": bool(row["arrived"]),  # without a stop; maybe on the reserve
+        "reached_recovery": bool(row["reaches_recovery"]),
         "success": bool(row["success"]),
         "failure_mode": str(row["failure_mode"]),
         "failing_leg": str(row["failing_leg"]) or None,
         "energy_per_km_Wh": dict(nominal.energy_per_km_Wh),
     }
+
+
+def contingency_dict(contingency) -> dict[str, Any] | None:
+    """The contingency (or recovery-window booking) in summary.json's words: ``reached_recovery`` (count) for the samples
+    that reached the recovery point; its probability is the one at ``p_reached_recovery``
+    (one computation), so the contingency carries no second copy of it."""
+    if contingency is None:
+        return None
+    out = contingency.to_dict()
+    for key in ("probability_of_arrival", "probability_of_arrival_low",
+                "probability_of_arrival_high"):
+        out.pop(key, None)
+    out["reached_recovery"] = out.pop("arrived")
+    if "not_arrived" in out:
+        out["not_reached_recovery"] = out.pop("not_arrived")
+    return out
 
 
 def _sweep_summary(sweep):
@@ -137,7 +154,7 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "required_probability": sc.decision.required_probability,
         "confidence": st.confidence,
         "p_success": interval_dict(prop.p_success),
-        "p_arrive": interval_dict(prop.p_arrive),
+        "p_reached_recovery": interval_dict(prop.p_arrive),
         "samples_to_settle": a.verdict.samples_to_settle,
         "samples": st.samples,
         "seed": st.seed,
@@ -150,8 +167,8 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "duration_days": {"reached": reached,
                           "quantiles": [interval_dict(q) for q in prop.duration_quantiles]},
         "mean_margin_Wh": interval_dict(prop.mean_margin_Wh),
-        "contingency": a.contingency.to_dict() if a.contingency is not None else None,
-        "recovery_window": a.recovery.to_dict() if a.recovery is not None else None,
+        "contingency": contingency_dict(a.contingency),
+        "recovery_window": contingency_dict(a.recovery),
         "pilot_actions": a.flight.to_dict() if a.flight is not None else None,
         "sensitivity_ranking": a.sensitivity_ranking(),
         "sensitivity_order": _order(a),

@@ -138,7 +138,7 @@ def _build(a, folder: Path, *, sweep, comparison, progress) -> None:
     energy, energy_images = _energy_along_route(a, folder, figdir, progress)
 
     _step(progress, "figures")
-    images = _make_figures(a, figdir, sweep_summary=sweep_summary)
+    images = _make_figures(a, figdir, sweep_summary=sweep_summary, pair=pair)
     report_s = time.perf_counter() - t0
 
     _step(progress, "summary.json")
@@ -191,8 +191,14 @@ def inputs_frame(scenario, pinned: dict | None = None) -> pd.DataFrame:
                         ["input", "distribution", "unit", "q05", "q50", "q95"])
 
 
+#: CSV column renames so that every column name carries its unit (``_money``: the scenario's
+#: currency, named in the ``currency`` column)
+RANGE_CURVE_COLUMNS = {"threshold": "range_km"}
+
+
 def _write_tables(a, folder, *, sweep, sweep_summary, comparison, pair) -> None:
-    _csv(a.propagation.range_curve.to_frame(), folder / "range_curve.csv")
+    _csv(a.propagation.range_curve.to_frame().rename(columns=RANGE_CURVE_COLUMNS),
+         folder / "range_curve.csv")
     if a.sensitivity is not None:
         _csv(a.sensitivity.sobol.to_frame().reset_index(), folder / "sensitivity.csv")
     else:
@@ -202,11 +208,14 @@ def _write_tables(a, folder, *, sweep, sweep_summary, comparison, pair) -> None:
     if a.tests is not None:
         frame = a.tests.to_frame()
         frame.insert(0, "basis", a.tests.ranking_basis)
+        frame.insert(1, "currency", a.tests.currency)
         _csv(frame, folder / "tests.csv")
     else:
-        _csv(pd.DataFrame(columns=["rank", "name", "inputs", "cost"]), folder / "tests.csv")
+        _csv(pd.DataFrame(columns=["rank", "name", "inputs", "cost_money"]), folder / "tests.csv")
     if a.contingency is not None:
-        _csv(a.contingency.to_frame(), folder / "contingency.csv")
+        frame = a.contingency.to_frame()
+        frame.insert(1, "currency", a.contingency.currency)
+        _csv(frame, folder / "contingency.csv")
     elif a.recovery is not None:
         _csv(a.recovery.to_frame(), folder / "recovery_window.csv")
         _csv(pd.DataFrame(columns=["quantile", "booking_days"]), folder / "contingency.csv")
@@ -218,8 +227,40 @@ def _write_tables(a, folder, *, sweep, sweep_summary, comparison, pair) -> None:
         frame = sweep.to_frame() if hasattr(sweep, "to_frame") else sweep_summary.to_frame()
         _csv(frame, folder / "sweep.csv")
     if pair is not None:
-        frame = comparison.to_frame() if hasattr(comparison, "to_frame") else pair.to_frame()
-        _csv(frame, folder / "comparison.csv")
+        _csv(comparison_frame(pair), folder / "comparison.csv")
+        _csv(comparison_energy_frame(pair), folder / "comparison_energy.csv")
+
+
+def comparison_frame(pair) -> pd.DataFrame:
+    """comparison.csv: one row per configuration: its successes, P(success) with its
+    interval and verdict, and the paired difference to the other configuration [-]
+    (``p_success_minus_other``: A - B on A's row, B - A on B's) with its interval."""
+    rows = []
+    for k, (name, suffix, verdict) in enumerate(((pair.names[0], "a", pair.verdict_a),
+                                                 (pair.names[1], "b", pair.verdict_b))):
+        sign = 1.0 if k == 0 else -1.0
+        lo, hi = pair.difference_low, pair.difference_high
+        if sign < 0:
+            lo, hi = (None if hi is None else -hi), (None if lo is None else -lo)
+        rows.append({"configuration": name, "samples": pair.samples,
+                     "successes": getattr(pair, f"successes_{suffix}"),
+                     "p_success": getattr(pair, f"p_success_{suffix}"),
+                     "p_success_low": getattr(pair, f"p_success_{suffix}_low"),
+                     "p_success_high": getattr(pair, f"p_success_{suffix}_high"),
+                     "verdict": verdict,
+                     "p_success_minus_other": sign * pair.difference,
+                     "p_success_minus_other_low": lo, "p_success_minus_other_high": hi})
+    return pd.DataFrame(rows)
+
+
+def comparison_energy_frame(pair) -> pd.DataFrame:
+    """comparison_energy.csv: quantiles of the per-sample ratio of energy per km A / B [-]."""
+    return pd.DataFrame([{"quantile": q.quantile, "energy_per_km_ratio": q.ratio,
+                          "energy_per_km_ratio_low": q.ratio_low,
+                          "energy_per_km_ratio_high": q.ratio_high}
+                         for q in pair.energy_ratio_quantiles],
+                        columns=["quantile", "energy_per_km_ratio", "energy_per_km_ratio_low",
+                                 "energy_per_km_ratio_high"])
 
 
 # ------------------------------------------------------------------------ figures
@@ -233,13 +274,14 @@ def _b64(png: bytes) -> str:
     return base64.b64encode(png).decode("ascii")
 
 
-def _make_figures(a, figdir: Path, *, sweep_summary) -> dict[str, str]:
+def _make_figures(a, figdir: Path, *, sweep_summary, pair=None) -> dict[str, str]:
     """Every figure as PNG+SVG in ``figdir``; returns base64 PNGs keyed by figure name."""
     images: dict[str, str] = {}
     sc = a.scenario
     images["range_curve"] = _b64(fig_mod.save_figure(fig_mod.range_curve_figure(
         a.propagation.range_curve, route_km=sc.route_length_km,
-        required_probability=sc.decision.required_probability), figdir, "range_curve"))
+        required_probability=sc.decision.required_probability,
+        p_success=a.verdict.probability_estimate), figdir, "range_curve"))
     images["failures"] = _b64(fig_mod.save_figure(fig_mod.failures_figure(a.failures),
                                                   figdir, "failures"))
     if a.sensitivity is not None:
@@ -262,6 +304,9 @@ def _make_figures(a, figdir: Path, *, sweep_summary) -> dict[str, str]:
             operating_w=op.vertical_speed if op.feasible else float("nan"),
             glide_angle_deg=op.glide_angle_deg, net_buoyancy_N=op.net_buoyancy_N),
             figdir, "glide_polar"))
+    if pair is not None and hasattr(pair, "p_success_a"):
+        images["comparison"] = _b64(fig_mod.save_figure(fig_mod.comparison_figure(pair),
+                                                        figdir, "comparison"))
     if getattr(a, "knowledge_band", None) is not None:
         images["knowledge_band"] = _b64(fig_mod.save_figure(
             fig_mod.knowledge_band_figure(a.knowledge_band), figdir, "knowledge_band"))
@@ -300,4 +345,5 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         total_time=sum(timings.values()),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
         censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),
+        range_at_route=fig_mod.curve_at(a.propagation.range_curve, a.propagation.route_km),
     )

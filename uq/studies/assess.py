@@ -37,7 +37,8 @@ import numpy as np
 from uq import decisions, estimators
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE
 from uq.scenario import Scenario
-from uq.simulate import FAILURE_MODE_NAMES, NominalResult, ScenarioModel, nominal
+from uq.simulate import (FAILURE_MODE_NAMES, FailureMode, NominalResult, ScenarioModel, nominal,
+                         possible_failure_modes)
 from uq.studies.decide import knowledge_band_of, rank_scenario_tests
 from uq.studies.extension import ExtensionError, extension_settings, recorded_run
 from uq.studies.propagation import (OUTPUT_KEYS, Propagation, Settings, _settings,
@@ -92,10 +93,11 @@ class Assessment:
     rare_events: RareEventStage | None = None
 
     def estimators(self) -> dict[str, str]:
-        """Which estimator gave each headline probability: ``p_success``, ``p_arrive`` and
+        """Which estimator gave each headline probability: ``p_success``, ``p_reached_recovery`` and
         ``outcomes.<class>`` -> the method of its interval."""
         prop = self.propagation
-        out = {"p_success": prop.p_success.method, "p_arrive": prop.p_arrive.method}
+        out = {"p_success": prop.p_success.method,
+               "p_reached_recovery": prop.p_arrive.method}
         if prop.outcome_table is not None:
             out.update({f"outcomes.{r.key}": r.probability.method
                         for r in prop.outcome_table.rows})
@@ -378,6 +380,15 @@ def _propagate_to_target(scenario, settings: Settings, *, executor, target_half_
     return last["prop"], last["settings"], result
 
 
+def _mode_names(scenario, codes) -> dict[int, str]:
+    """The failure modes possible for the vehicle kind and route, plus any that occurred."""
+    names = possible_failure_modes(scenario)
+    for code in np.unique(np.asarray(codes)).tolist():
+        if int(code) not in names and int(code) != 0:
+            names[int(code)] = FAILURE_MODE_NAMES[FailureMode(int(code))]
+    return dict(sorted(names.items()))
+
+
 def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
             base: NominalResult, *, seed: np.random.SeedSequence) -> dict:
     dec = scenario.decision
@@ -387,8 +398,9 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
     verdict = decisions.verdict_for(p, required_probability=dec.required_probability)
     failures = decisions.failure_breakdown(
         out["failure_mode"], out["failing_leg"],
-        mode_names={int(k): v for k, v in FAILURE_MODE_NAMES.items()},
-        leg_names=[leg.name for leg in scenario.legs], confidence=conf)
+        mode_names=_mode_names(scenario, out["failure_mode"]),
+        leg_names=[leg.name for leg in scenario.legs], confidence=conf,
+        failure_probability=(1.0 - p.estimate, 1.0 - p.upper, 1.0 - p.lower))
     # every vehicle that reaches the recovery point, on its reserve if need be, must be met
     reached = out["reaches_recovery"]
     contingency = recovery = None

@@ -166,7 +166,7 @@ class VariantResult:
             "contingency_days": b.contingency_days if b is not None else None,
             "contingency_days_low": b.contingency_days_low if b is not None else None,
             "contingency_days_high": b.contingency_days_high if b is not None else None,
-            "contingency_cost": b.contingency_cost if b is not None else None,
+            "contingency_cost_money": b.contingency_cost_money if b is not None else None,
             "mean_margin_Wh": self.mean_margin_Wh.estimate,
             "mean_margin_Wh_low": self.mean_margin_Wh.lower,
             "mean_margin_Wh_high": self.mean_margin_Wh.upper,

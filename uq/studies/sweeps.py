@@ -18,8 +18,9 @@ import pandas as pd
 from scipy import stats
 
 from uq import decisions
-from uq.sampling.inputs import InputModel, ScipyMarginal
-from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, plan_size
+from uq.sampling.inputs import UNIT_CLIP, InputModel, ScipyMarginal
+from uq.sampling.plans import SampleDesign
+from uq.studies.propagation import _settings
 from uq.scenario import Scenario
 from uq.simulate import Outcomes, ScenarioModel, deterministic_optimum, nominal
 
@@ -31,10 +32,14 @@ __all__ = [
     "shared_copula",
     "inputs_from_shared",
     "with_setpoint",
+    "shared_designs",
+    "plan_settings",
     "evaluate_on_shared_samples",
     "SweepResult",
     "sweep_setpoint",
     "ComparisonResult",
+    "ROUTE_TOLERANCE",
+    "comparability_problem",
     "compare_scenarios",
 ]
 
@@ -105,28 +110,52 @@ def shared_copula(scenarios: Sequence[Scenario], union: Sequence[str]) -> InputM
     return InputModel(uniforms, rank_correlation=matrix)
 
 
-def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, seed: int,
-                               scheme: str = "sobol", executor=None) -> list[Outcomes]:
+def shared_designs(settings, dimension: int) -> list[SampleDesign]:
+    """The plan of an assessment with these settings (one design per replicate), over
+    ``dimension`` inputs: the same rule as :func:`uq.studies.propagation.propagate`, so a
+    configuration whose inputs are the union sees exactly the assessment's rows."""
+    per = settings.samples_per_replicate
+    return [SampleDesign(scheme=settings.scheme, n=per, dimension=max(dimension, 1),
+                         seed=settings.seed, replicate=r,
+                         block_size=min(settings.block_size, per))
+            for r in range(settings.replicates)]
+
+
+def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int | None = None,
+                               seed: int | None = None, scheme: str | None = None,
+                               replicates: int | None = None, settings=None,
+                               executor=None) -> list[Outcomes]:
     """Outcomes of every scenario on one shared plan (common random numbers by input name).
 
-    The plan's unit points are correlated once over the union of inputs; each configuration
-    then maps the columns of its own inputs through its own marginals, so a shared input has
-    the same probability level in every configuration (the same value when the marginals agree).
-    The model runs in blocks of rows, through ``executor.map`` when one is given (a process
-    pool, :class:`uq.sampling.backends.DaskExecutor`); the numbers do not depend on it.
+    The plan is an assessment's plan (``settings``, or the first scenario's ``[analysis]``
+    with ``samples``/``seed``/``scheme``/``replicates`` overriding it): the same replicates,
+    seed and block size, drawn over the union of the input names (the first scenario's inputs first). A
+    configuration whose inputs are that union therefore runs on exactly the rows its own
+    assessment runs on, and gets the same P(success). The plan's unit points are correlated
+    once over the union; each configuration maps the columns of its own inputs through its own
+    marginals, so a shared input has the same probability level in every configuration (the
+    same value when the marginals agree). The model runs in blocks of rows, through
+    ``executor.map`` when one is given (a process pool,
+    :class:`uq.sampling.backends.DaskExecutor`); the numbers do not depend on it. Rows are
+    in plan order, replicate after replicate.
     """
+    if settings is None:
+        settings = plan_settings(scenarios[0], samples=samples, seed=seed, scheme=scheme,
+                                 replicates=replicates)
     union: list[str] = []
     for s in scenarios:
         union.extend(name for name in s.input_names if name not in union)
-    u = shared_unit_points(union, samples, seed=seed, scheme=scheme)
     copula = shared_copula(scenarios, union)
-    if copula is not None:
-        u = copula.transform(u)  # correlated uniforms
+    blocks = []
+    for design in shared_designs(settings, len(union)):
+        for k in range(design.n_blocks):
+            u = design.unit_points(*design.block_rows(k))[:, : len(union)]
+            u = np.clip(u, UNIT_CLIP, 1.0 - UNIT_CLIP) if copula is None else copula.transform(u)
+            blocks.append(u)
     tasks = []
     for s in scenarios:
-        model, x = ScenarioModel(s), inputs_from_shared(s, columns_for(s, union), u)
-        tasks.append([(model, x[i:i + DEFAULT_BLOCK_SIZE])
-                      for i in range(0, x.shape[0], DEFAULT_BLOCK_SIZE)])
+        model, columns = ScenarioModel(s), columns_for(s, union)
+        tasks.append([(model, inputs_from_shared(s, columns, u)) for u in blocks])
     run = map if executor is None else executor.map
     results = list(run(_evaluate_block, [task for per in tasks for task in per]))
     out, start = [], 0
@@ -134,6 +163,13 @@ def evaluate_on_shared_samples(scenarios: Sequence[Scenario], *, samples: int, s
         out.append(Outcomes.concatenate(results[start:start + len(per)]))
         start += len(per)
     return out
+
+
+def plan_settings(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
+                  scheme: str | None = None, replicates: int | None = None):
+    """The settings an assessment of ``scenario`` would run with (the one sizing rule)."""
+    return _settings(scenario, samples=samples, seed=seed, scheme=scheme,
+                     replicates=replicates)
 
 
 def _evaluate_block(task):
@@ -162,25 +198,35 @@ class SweepResult:
     seed: int
 
     def to_frame(self) -> pd.DataFrame:
-        frame = self.summary.to_frame()
+        """sweep.csv: the setpoint column is named after the swept field (its unit in the
+        name, e.g. ``speed_m_s``), then the rows of the summary."""
+        frame = self.summary.to_frame().rename(
+            columns={"setpoint": self.field.split(".")[-1]})
         frame["nominal_margin_Wh"] = list(self.nominal_margin_Wh)
         return frame
 
 
 def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
                    samples: int | None = None, seed: int | None = None,
-                   scheme: str = "sobol", executor=None) -> SweepResult:
-    """P(success), P90 duration and mean margin over setpoint values, on shared samples
-    (``executor``: see :func:`evaluate_on_shared_samples`)."""
+                   scheme: str | None = None, settings=None, reference=None,
+                   executor=None) -> SweepResult:
+    """P(success), P90 duration and mean margin over setpoint values, on the samples an
+    assessment of ``scenario`` runs on (``settings``: an assessment's
+    :class:`uq.studies.propagation.Settings`, e.g. ``assessment.settings``; by default the
+    scenario's ``[analysis]`` with ``samples``/``seed``/``scheme`` overriding it), through
+    the same P(success) rule: at the scenario's own setpoint the sweep repeats its verdict's
+    number exactly. ``reference``: the assessment of ``scenario`` itself (its settings are
+    then the plan, and the row at its own setpoint states its P(success) estimate, also when
+    a rare-event stage gave it) (``executor``: see :func:`evaluate_on_shared_samples`)."""
     values = tuple(float(v) for v in values)
     if not values:
         raise StudyError("a sweep needs at least one setpoint value")
-    samples = int(samples or scenario.analysis.samples)
-    samples = plan_size(samples, scheme=scheme)[1]
-    seed = int(scenario.analysis.seed if seed is None else seed)
+    if reference is not None:
+        settings = reference.settings
+    if settings is None:
+        settings = plan_settings(scenario, samples=samples, seed=seed, scheme=scheme)
     variants = [with_setpoint(scenario, field, v) for v in values]
-    outs = evaluate_on_shared_samples(variants, samples=samples, seed=seed, scheme=scheme,
-                                      executor=executor)
+    outs = evaluate_on_shared_samples(variants, settings=settings, executor=executor)
     name, unit = SWEEPABLE[scenario.vehicle.kind][field]
     summary = decisions.sweep_summary(
         values,
@@ -189,14 +235,30 @@ def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
         np.stack([o.reaches_recovery for o in outs]),
         np.stack([o["margin_Wh"] for o in outs]),
         required_probability=scenario.decision.required_probability,
-        confidence=scenario.decision.confidence,
+        confidence=settings.p_success_confidence,
         setpoint_name=name, unit=unit,
         deterministic_optimum=deterministic_optimum(scenario, field),
         margin_unit="Wh",
+        replicates=settings.replicates, randomised=settings.scheme == "sobol",
+        reference=_reference_row(scenario, field, values, reference),
     )
     nominal_margins = tuple(float(nominal(v).outcome["margin_Wh"]) for v in variants)
     return SweepResult(field=field, values=values, summary=summary,
-                       nominal_margin_Wh=nominal_margins, samples=samples, seed=seed)
+                       nominal_margin_Wh=nominal_margins, samples=settings.samples,
+                       seed=settings.seed)
+
+
+def _reference_row(scenario: Scenario, field: str, values, reference):
+    """(index of the swept value that is the assessed configuration, its P(success)), or None."""
+    if reference is None or field in scenario.input_names:
+        return None
+    own = getattr(scenario.setpoint, field.split(".", 1)[1], None)
+    if not isinstance(own, (int, float)):
+        return None
+    for i, v in enumerate(values):
+        if np.isclose(v, own, rtol=1e-12, atol=0.0):
+            return i, reference.propagation.p_success
+    return None
 
 
 @dataclass(frozen=True)
@@ -211,21 +273,54 @@ class ComparisonResult:
         return self.comparison.to_frame()
 
 
+#: relative difference of route lengths beyond which two configurations are not comparable
+ROUTE_TOLERANCE = 0.05  # a reporting choice: 5 % of the longer route (common practice, no source)
+
+
+def comparability_problem(a: Scenario, b: Scenario) -> str | None:
+    """Why ``a`` and ``b`` are not comparable (different vehicle kind, or route lengths more
+    than :data:`ROUTE_TOLERANCE` apart), or ``None``."""
+    if a.vehicle.kind != b.vehicle.kind:
+        return (f"{a.name!r} is a {a.vehicle.kind} vehicle and {b.name!r} a "
+                f"{b.vehicle.kind}: expected the same vehicle kind")
+    la, lb = float(a.route_length_km), float(b.route_length_km)
+    if abs(la - lb) > ROUTE_TOLERANCE * max(la, lb):
+        return (f"routes of {la:,.1f} km ({a.name!r}) and {lb:,.1f} km ({b.name!r}) differ by "
+                f"more than {ROUTE_TOLERANCE:.0%}: expected the same route")
+    return None
+
+
 def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
-                      seed: int | None = None, scheme: str = "sobol",
+                      seed: int | None = None, scheme: str | None = None, settings=None,
+                      reference=None, force: bool = False,
                       executor=None) -> ComparisonResult:
-    """Paired comparison of two configurations on shared samples of their common inputs
-    (``executor``: see :func:`evaluate_on_shared_samples`)."""
-    samples = int(samples or a.analysis.samples)
-    samples = plan_size(samples, scheme=scheme)[1]
-    seed = int(a.analysis.seed if seed is None else seed)
-    out_a, out_b = evaluate_on_shared_samples([a, b], samples=samples, seed=seed, scheme=scheme,
-                                              executor=executor)
+    """Paired comparison of two configurations on shared samples of their common inputs.
+
+    The plan is the one an assessment of ``a`` runs on (``settings``, see
+    :func:`sweep_setpoint`), so A's P(success) is its verdict's number whenever B adds no
+    input of its own. Pairs that are not comparable (:func:`comparability_problem`) are
+    refused with :class:`StudyError` unless ``force``, which records a caution instead.
+    ``reference``: the assessment of ``a`` (its settings are the plan, and A states its
+    P(success) estimate and verdict) (``executor``: see :func:`evaluate_on_shared_samples`)."""
+    problem = comparability_problem(a, b)
+    cautions = ()
+    if problem is not None:
+        if not force:
+            raise StudyError(f"not comparable: {problem} (pass --force to compare anyway)")
+        cautions = (f"Compared although not comparable: {problem}.",)
+    if reference is not None:
+        settings = reference.settings
+    if settings is None:
+        settings = plan_settings(a, samples=samples, seed=seed, scheme=scheme)
+    out_a, out_b = evaluate_on_shared_samples([a, b], settings=settings, executor=executor)
     names = (a.name, b.name) if a.name != b.name else (f"{a.name} (A)", f"{b.name} (B)")
     comparison = decisions.paired_comparison(
         out_a["success"], out_b["success"],
         out_a["route_energy_per_km_Wh"], out_b["route_energy_per_km_Wh"],
-        names=names, confidence=a.decision.confidence)
+        names=names, confidence=settings.p_success_confidence,
+        replicates=settings.replicates, randomised=settings.scheme == "sobol",
+        required_probability=a.decision.required_probability, cautions=cautions,
+        reference_a=None if reference is None else reference.propagation.p_success)
     shared = tuple(n for n in a.input_names if n in b.input_names)
     return ComparisonResult(names=names, comparison=comparison, shared_inputs=shared,
-                            samples=samples, seed=seed)
+                            samples=settings.samples, seed=settings.seed)

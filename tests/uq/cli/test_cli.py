@@ -188,6 +188,28 @@ def test_sweep_and_compare_add_their_sections(tmp_path, capsys):
     assert "setpoint.glide_angle_deg" in _one_error_line(capsys.readouterr().err)
 
 
+def test_compare_refuses_a_pair_that_is_not_comparable(tmp_path, capsys):
+    # a propeller AUV against a glider: exit 2, one line naming both, before any work
+    out = tmp_path / "pair"
+    assert main(["compare", str(DEMO), str(GLIDER), "--out", str(out)]) == 2
+    line = _one_error_line(capsys.readouterr().err)
+    assert "not comparable" in line and "propeller" in line and "glider" in line
+    assert "--force" in line and not out.exists()
+    # the same kind, a route 40 % longer: refused too; --force compares with a caution
+    longer = tmp_path / "longer.toml"
+    longer.write_text(DEMO.read_text(encoding="utf-8")
+                      .replace('name = "skerrow-under-ice"', 'name = "skerrow-longer"')
+                      .replace("length_km = 205.0", "length_km = 320.0"))
+    assert load_scenario(longer).route_length_km > 1.05 * load_scenario(DEMO).route_length_km
+    assert main(["compare", str(DEMO), str(longer), "--out", str(out)]) == 2
+    assert "route" in _one_error_line(capsys.readouterr().err)
+    assert main(["compare", str(DEMO), str(longer), *FAST, "--force", "--out", str(out)]) == 0
+    err = capsys.readouterr().err
+    assert "caution: compared although not comparable" in err
+    page = (out / "index.html").read_text(encoding="utf-8")
+    assert "Compared although not comparable" in page
+
+
 # ---------------------------------------------------------------------- interrupts
 @pytest.mark.parametrize("sig, status", [(signal.SIGTERM, 143), (signal.SIGINT, 130)])
 def test_interrupt_leaves_no_report_and_no_debris(sig, status, tmp_path):

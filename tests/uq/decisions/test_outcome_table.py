@@ -80,4 +80,4 @@ def test_table_rows_and_intervals():
                                                        rel=1e-12)
     rows = table.to_dicts()
     assert [r["class"] for r in rows] == ["success", "lost", "reserve_breach", "late",
-                                         "returned_to_safe_exit", "lost_under_ice"]
+                                         "turned_back_to_safe_exit", "lost_under_ice"]

@@ -116,10 +116,10 @@ def test_json_safe_turns_non_finite_into_null():
 
 def test_csv_tables_agree_with_independent_recomputation(demo_report, demo):
     curve = pd.read_csv(demo_report / "range_curve.csv",  # exact: pandas < 3 reads to ~1 ulp
-                        converters={"threshold": float})
+                        converters={"range_km": float})
     ranges = demo.propagation.outcomes["range_km"]
     # derived: the exceedance curve at x is the share of samples with range >= x
-    for x, p in zip(curve["threshold"][::40], curve["probability"][::40]):
+    for x, p in zip(curve["range_km"][::40], curve["probability"][::40]):
         assert p == pytest.approx(np.mean(ranges >= x), abs=1e-12)
     inputs = pd.read_csv(demo_report / "inputs.csv").set_index("input")
     # PERT(0.30, 0.38, 0.44) = beta(1 + 4(m-a)/(b-a), 1 + 4(b-m)/(b-a)) on [a, b]

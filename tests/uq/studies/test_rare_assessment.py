@@ -92,7 +92,7 @@ def test_a_demanding_requirement_brings_in_subset_simulation_at_1e_4(monkeypatch
     named = a.estimators()
     assert named["p_success"].startswith("1 - P(fail) by subset simulation")
     assert named["outcomes.reserve_breach"].startswith("subset simulation")
-    assert "wilson" in named["p_arrive"] or "clopper" in named["p_arrive"]
+    assert "wilson" in named["p_reached_recovery"] or "clopper" in named["p_reached_recovery"]
     summary = build_summary(a)
     assert summary["estimators"] == named
     assert summary["rare_events"]["p_fail"]["estimate"] == a.rare_events.failure.probability.estimate
@@ -148,3 +148,24 @@ def test_subset_simulation_in_the_assessment_with_workers(p_fail):
     assert pooled.p_success == a.p_success
     blocks = assess(scenario, sensitivity_base_n=0, block_size=1024, chunk_blocks=2)
     assert blocks.rare_events.failure == a.rare_events.failure
+
+
+def test_sweep_and_compare_state_the_rare_event_p_success_of_the_assessed_configuration(
+        monkeypatch):
+    # one answer per question: the sweep row at the scenario's own setpoint and configuration
+    # A of a comparison state the verdict's P(success), here 1 - P(fail) by subset simulation
+    # (the main sample alone has no failure at P(fail) = 1e-4 and would say 100 %)
+    from uq.studies import rare
+    from uq.studies.sweeps import compare_scenarios, sweep_setpoint
+
+    monkeypatch.setattr(rare, "SAMPLES_PER_LEVEL", 1000)
+    scenario, _ = _shortfall_scenario(1e-4)
+    a = assess(scenario, sensitivity_base_n=0)
+    assert a.rare_events is not None
+    sweep = sweep_setpoint(scenario, "setpoint.speed_m_s", [0.9, 1.0], reference=a)
+    row = sweep.summary.rows[1]
+    assert (row.p_success, row.p_success_low, row.p_success_high) == (
+        a.p_success.estimate, a.p_success.lower, a.p_success.upper)
+    assert row.p_success < 1.0 and row.successes == a.propagation.samples  # no failure counted
+    pair = compare_scenarios(scenario, scenario, reference=a).comparison
+    assert pair.p_success_a == a.p_success.estimate and pair.verdict_a == a.verdict.verdict

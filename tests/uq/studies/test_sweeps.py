@@ -55,7 +55,7 @@ def test_sweep_optimum_tends_to_the_closed_form_speed_as_uncertainty_vanishes():
     assert deterministic_optimum(scenario, "setpoint.speed_m_s") == pytest.approx(u_star, rel=1e-6)
     grid = np.round(np.arange(0.60, 1.40, 0.02), 2)
     result = sweep_setpoint(scenario, "setpoint.speed_m_s", grid, samples=64)
-    assert all(r.probability_of_success == 1.0 for r in result.summary.rows)
+    assert all(r.p_success == 1.0 for r in result.summary.rows)
     assert abs(result.summary.robust_setpoint - u_star) <= 0.01 + 1e-12  # half the grid step
 
 
@@ -111,3 +111,41 @@ def test_shared_input_has_the_same_value_whatever_the_input_order_under_correlat
     # the same legs and inputs in another order: with no fouling before the onset (6 days, a
     # 2.5-day section) the leg times simply add, so durations agree sample by sample
     np.testing.assert_allclose(out_a["duration_days"], out_b["duration_days"], rtol=1e-12)
+
+
+# ---------------------------------------------------------------- one P(success) everywhere
+def test_sweep_and_compare_repeat_the_assessments_p_success_at_its_own_configuration():
+    # derived: the sweep at the scenario's own setpoint and configuration A of a comparison
+    # run on exactly the assessment's rows with its estimator, so the numbers are identical
+    # (the issue: 31.0 % in the sweep beside the verdict's 30.9 %)
+    from uq.studies.assess import assess
+
+    scenario = parse_scenario(_demo())
+    a = assess(scenario, samples=1024, seed=9, sensitivity_base_n=0)
+    own = scenario.setpoint.speed_m_s
+    sweep = sweep_setpoint(scenario, "setpoint.speed_m_s", [own - 0.2, own], settings=a.settings)
+    row = sweep.summary.rows[1]
+    p = a.propagation.p_success
+    assert (row.p_success, row.p_success_low, row.p_success_high) == (p.estimate, p.lower, p.upper)
+    assert row.successes == p.count
+    assert row.reached_recovery == a.propagation.p_arrive.count
+    bigger = _demo()
+    bigger["scenario"]["name"] = "bigger"
+    bigger["battery"]["nominal_energy_Wh"] = 17000.0
+    pair = compare_scenarios(scenario, parse_scenario(bigger), settings=a.settings).comparison
+    assert (pair.p_success_a, pair.p_success_a_low) == (p.estimate, p.lower)
+    assert pair.verdict_a == a.verdict.verdict
+    assert pair.better == "bigger" and pair.difference < 0  # more energy never hurts
+
+
+def test_pairs_that_are_not_comparable_are_refused_unless_forced():
+    auv, glider = parse_scenario(_demo()), parse_scenario(_demo("glider_transit.toml"))
+    with pytest.raises(StudyError, match="not comparable: .*propeller.*glider"):
+        compare_scenarios(auv, glider, samples=64)
+    longer = _demo()
+    longer["scenario"]["name"] = "longer"
+    longer["legs"][1]["length_km"] *= 1.5
+    with pytest.raises(StudyError, match="differ by more than 5%"):
+        compare_scenarios(auv, parse_scenario(longer), samples=64)
+    forced = compare_scenarios(auv, parse_scenario(longer), samples=64, force=True)
+    assert forced.comparison.cautions and "not comparable" in forced.comparison.cautions[0]
