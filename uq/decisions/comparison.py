@@ -454,15 +454,7 @@ def paired_comparison(
     PairedComparison
     """
     confidence = _check_confidence(confidence)
-    sa = _as_bool_1d(success_a, "success_a")
-    sb = _as_bool_1d(success_b, "success_b")
-    ea = _as_float_1d(energy_per_km_a, "energy_per_km_a")
-    eb = _as_float_1d(energy_per_km_b, "energy_per_km_b")
-    n = _same_length(success_a=sa, success_b=sb, energy_per_km_a=ea, energy_per_km_b=eb)
-    if n == 0:
-        raise ShapeMismatchError("no samples: expected at least one")
-    if np.any(np.isnan(ea)) or np.any(np.isnan(eb)):
-        raise DecisionInputError("energy per km contains NaN: expected numbers (+inf for no headway)")
+    sa, sb, ea, eb, n = _checked_pair(success_a, success_b, energy_per_km_a, energy_per_km_b)
     if len(names) != 2:
         raise ShapeMismatchError(f"names={names!r}: expected two names")
     na, nb_ = (str(x) for x in names)
@@ -487,14 +479,7 @@ def paired_comparison(
     p_value = mcnemar_exact_p_value(a_only, b_only)
     k_less = int(np.count_nonzero(ea < eb))
     lo_l, hi_l = _wilson(k_less, n, confidence)
-    ok = np.isfinite(ea) & np.isfinite(eb) & (eb > 0)
-    ratio = np.sort(ea[ok] / eb[ok])
-    rq = []
-    for q in quantiles:
-        q = _check_probability_open(q, "quantiles entry")
-        if ratio.size:
-            est, lo, hi = _quantile_with_interval(ratio, q, confidence)
-            rq.append(RatioQuantile(q, est, lo, hi))
+    ratio, rq = _energy_ratio_quantiles(ea, eb, quantiles, confidence)
     sentence = _paired_sentence(na, nb_, pa, pb, diff, diff_lo, diff_hi, better, n, confidence)
     return PairedComparison(
         names=(na, nb_),
@@ -527,11 +512,38 @@ def paired_comparison(
         probability_a_less_energy_low=float(lo_l),
         probability_a_less_energy_high=float(hi_l),
         energy_ratio_samples=int(ratio.size),
-        energy_ratio_quantiles=tuple(rq),
+        energy_ratio_quantiles=rq,
         confidence=confidence,
         sentence=sentence,
         cautions=tuple(str(c) for c in cautions),
     )
+
+
+def _checked_pair(success_a, success_b, energy_per_km_a, energy_per_km_b):
+    """The two configurations' per-sample arrays, checked: (sa, sb, ea, eb, n)."""
+    sa = _as_bool_1d(success_a, "success_a")
+    sb = _as_bool_1d(success_b, "success_b")
+    ea = _as_float_1d(energy_per_km_a, "energy_per_km_a")
+    eb = _as_float_1d(energy_per_km_b, "energy_per_km_b")
+    n = _same_length(success_a=sa, success_b=sb, energy_per_km_a=ea, energy_per_km_b=eb)
+    if n == 0:
+        raise ShapeMismatchError("no samples: expected at least one")
+    if np.any(np.isnan(ea)) or np.any(np.isnan(eb)):
+        raise DecisionInputError("energy per km contains NaN: expected numbers (+inf for no headway)")
+    return sa, sb, ea, eb, n
+
+
+def _energy_ratio_quantiles(ea, eb, quantiles, confidence):
+    """The sorted ratios A / B where both made headway, and their requested quantiles."""
+    ok = np.isfinite(ea) & np.isfinite(eb) & (eb > 0)
+    ratio = np.sort(ea[ok] / eb[ok])
+    rq = []
+    for q in quantiles:
+        q = _check_probability_open(q, "quantiles entry")
+        if ratio.size:
+            est, lo, hi = _quantile_with_interval(ratio, q, confidence)
+            rq.append(RatioQuantile(q, est, lo, hi))
+    return ratio, tuple(rq)
 
 
 def _paired_sentence(na, nb, pa, pb, diff, lo, hi, better, n, confidence) -> str:
