@@ -14,12 +14,13 @@ from typing import Any, Callable, Sequence
 import numpy as np
 
 from uq.sampling.engine import CollectReducer, stream
+from uq.sampling.plans import BlockLayout
 
 __all__ = ["GivenRows", "evaluate_rows"]
 
 
 @dataclass(frozen=True, eq=False)
-class GivenRows:
+class GivenRows(BlockLayout):
     """Streaming view of given unit points, in the layout the engine walks.
 
     Implements the plan interface :func:`uq.sampling.engine.stream` reads (``n``,
@@ -36,14 +37,6 @@ class GivenRows:
     @property
     def dimension(self) -> int:
         return int(self.points.shape[1])
-
-    @property
-    def n_blocks(self) -> int:
-        return -(-self.n // self.block_size)
-
-    def block_rows(self, block_index: int) -> tuple[int, int]:
-        start = block_index * self.block_size
-        return start, min(start + self.block_size, self.n)
 
     def unit_points(self, start: int = 0, stop: int | None = None) -> np.ndarray:
         return np.array(self.points[start:self.n if stop is None else stop])

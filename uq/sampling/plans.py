@@ -45,6 +45,7 @@ import numpy as np
 from scipy.stats import qmc
 
 __all__ = [
+    "BlockLayout",
     "DEFAULT_BLOCK_SIZE",
     "SCHEMES",
     "SampleDesign",
@@ -101,8 +102,28 @@ def _check_int(value, name: str, *, minimum: int) -> int:
 _QMC_RNG_KEYWORD = "rng" if "rng" in inspect.signature(qmc.Sobol.__init__).parameters else "seed"
 
 
+class BlockLayout:
+    """The streaming block arithmetic of a plan with ``n`` rows and ``block_size``: one rule
+    for every plan kind the engine walks (:class:`SampleDesign`, :class:`StackedDesigns`,
+    :class:`uq.estimators.streamed.GivenRows`)."""
+
+    @property
+    def n_blocks(self) -> int:
+        """Number of streaming blocks, ``ceil(n / block_size)``."""
+        return -(-self.n // self.block_size)
+
+    def block_rows(self, block_index: int) -> tuple[int, int]:
+        """Row range ``(start, stop)`` of streaming block ``block_index``."""
+        if not 0 <= block_index < self.n_blocks:
+            raise RowRangeError(
+                f"block_index must be in [0, {self.n_blocks}); got {block_index}"
+            )
+        start = block_index * self.block_size
+        return start, min(start + self.block_size, self.n)
+
+
 @dataclass(frozen=True)
-class SampleDesign:
+class SampleDesign(BlockLayout):
     """Metadata of a sample plan on ``[0, 1)^dimension``; generates rows on demand.
 
     Parameters
@@ -160,19 +181,6 @@ class SampleDesign:
             )
 
     # ------------------------------------------------------------------ metadata
-    @property
-    def n_blocks(self) -> int:
-        """Number of streaming blocks, ``ceil(n / block_size)``."""
-        return -(-self.n // self.block_size)
-
-    def block_rows(self, block_index: int) -> tuple[int, int]:
-        """Row range ``(start, stop)`` of streaming block ``block_index``."""
-        if not 0 <= block_index < self.n_blocks:
-            raise RowRangeError(
-                f"block_index must be in [0, {self.n_blocks}); got {block_index}"
-            )
-        start = block_index * self.block_size
-        return start, min(start + self.block_size, self.n)
 
     def with_replicate(self, replicate: int) -> "SampleDesign":
         """The same plan with another independent randomisation."""
@@ -265,7 +273,7 @@ class SampleDesign:
 
 
 @dataclasses.dataclass(frozen=True, eq=False)
-class StackedDesigns:
+class StackedDesigns(BlockLayout):
     """Several plans streamed as one: their rows end to end, in blocks that span plans.
 
     Independent replicates of a few hundred rows each cost the model one small call apiece;
@@ -290,14 +298,6 @@ class StackedDesigns:
     @property
     def dimension(self) -> int:
         return int(self.designs[0].dimension)
-
-    @property
-    def n_blocks(self) -> int:
-        return -(-self.n // self.block_size)
-
-    def block_rows(self, block_index: int) -> tuple[int, int]:
-        start = block_index * self.block_size
-        return start, min(start + self.block_size, self.n)
 
     def unit_points(self, start: int = 0, stop: int | None = None) -> np.ndarray:
         stop = self.n if stop is None else stop
