@@ -159,10 +159,9 @@ class Formatter:
         return f"{self._pct_text(lo, digits)}\u2013{self._pct_text(hi, digits)} %"
 
 
-#: unit suffixes of scenario field names (the file convention) and how a page writes them
-_UNIT_SUFFIXES = (("_m_s", "m/s"), ("_h", "h"), ("_Wh", "Wh"), ("_W", "W"), ("_km", "km"), ("_m2", "m\u00b2"),
-                  ("_deg", "\u00b0"), ("_days", "d"), ("_C", "\u00b0C"), ("_N", "N"),
-                  ("_J", "J"), ("_s", "s"), ("_m", "m"))
+#: how a page typesets the plain-text units of the scenario's key suffixes
+#: (:func:`uq.scenario.distributions.split_unit` is the one suffix rule)
+_PAGE_UNITS = {"m^2": "m\u00b2", "deg": "\u00b0", "degC": "\u00b0C", "day": "d"}
 
 #: plain words for field names whose words alone are not clear
 _QUANTITY_WORDS = {"current_along": "current along track", "current_across": "current across track",
@@ -182,13 +181,11 @@ def input_label(name: str, *, wrap: bool = False) -> str:
         sep = "\n  + " if wrap else " + "
         return "correlated group:" + ("\n  " if wrap else " ") + sep.join(
             input_label(p) for p in parts)
+    from uq.scenario.distributions import split_unit
+
     path = str(name).split(".")
-    field = path[-1]
-    unit = "-"
-    for suffix, text in _UNIT_SUFFIXES:
-        if field.endswith(suffix) and len(field) > len(suffix):
-            field, unit = field[: -len(suffix)], text
-            break
+    field, unit = split_unit(path[-1])
+    unit = _PAGE_UNITS.get(unit, unit) or "-"
     quantity = _QUANTITY_WORDS.get(field, field.replace("_", " "))
     if path[0] == "legs" and len(path) >= 3:
         return f"{path[1].replace('_', ' ')}: {quantity} [{unit}]"

@@ -108,11 +108,18 @@ def unit_from_key(key: str) -> str:
     str
         The unit, or ``""`` for dimensionless fields (fractions, coefficients, salinity).
     """
+    return split_unit(key)[1]
+
+
+def split_unit(key: str) -> tuple[str, str]:
+    """The last component of a key split into its quantity and its unit by the key's suffix:
+    ``"legs.a.current_along_m_s"`` -> ``("current_along", "m/s")``; ``("x", "")`` when the
+    name carries no unit. The one suffix rule (:func:`unit_from_key` and the report's labels)."""
     last = key.rsplit(".", 1)[-1]
     for suffix, unit in _UNIT_SUFFIXES:
         if last.endswith(suffix):
-            return unit
-    return ""
+            return last[: -len(suffix)], unit
+    return last, ""
 
 
 class DistributionError(InputError):
