@@ -11,7 +11,7 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["DASH", "MINUS", "finite_or_none", "json_safe", "Formatter", "input_label"]
+__all__ = ["DASH", "DISPLAY_UNITS", "MINUS", "finite_or_none", "json_safe", "Formatter", "input_label"]
 
 DASH = "\u2014"
 
@@ -161,7 +161,8 @@ class Formatter:
 
 #: how a page typesets the plain-text units of the scenario's key suffixes
 #: (:func:`uq.scenario.distributions.split_unit` is the one suffix rule)
-_PAGE_UNITS = {"m^2": "m\u00b2", "deg": "\u00b0", "degC": "\u00b0C", "day": "d"}
+DISPLAY_UNITS = {"degC": "\u00b0C", "deg": "\u00b0", "m^2": "m\u00b2", "day": "d",
+                 "1/day": "/d", "1/month": "/month"}
 
 #: plain words for field names whose words alone are not clear
 _QUANTITY_WORDS = {"current_along": "current along track", "current_across": "current across track",
@@ -185,7 +186,7 @@ def input_label(name: str, *, wrap: bool = False) -> str:
 
     path = str(name).split(".")
     field, unit = split_unit(path[-1])
-    unit = _PAGE_UNITS.get(unit, unit) or "-"
+    unit = DISPLAY_UNITS.get(unit, unit) or "-"
     quantity = _QUANTITY_WORDS.get(field, field.replace("_", " "))
     if path[0] == "legs" and len(path) >= 3:
         return f"{path[1].replace('_', ' ')}: {quantity} [{unit}]"

@@ -10,15 +10,12 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from uq.report._format import DASH, DISPLAY_UNITS
 from uq.scenario import DragCoefficient, HullGeometry
 from uq.scenario.distributions import Marginal
 
 __all__ = ["PlanTable", "RouteTable", "Plan", "plan_summary", "value_text", "DISPLAY_UNITS"]
 
-DASH = "\u2014"
-#: scenario-file units as the page prints them
-DISPLAY_UNITS = {"degC": "\u00b0C", "deg": "\u00b0", "m^2": "m\u00b2", "day": "d",
-                 "1/day": "/d", "1/month": "/month"}
 
 
 def _number(x: float, figures: int = 4) -> str:
