@@ -228,10 +228,10 @@ def main(argv=None) -> int:
             ("sampling (unit points + input transform)", best["sampling_s"]),
             ("model (simulate_arrays, main sample)", best["model_s"]),
             ("estimators (rest of propagate)", best["estimators_s"]),
-            ("sensitivity (SALib + PCE)", best["sensitivity_s"]),
+            ("sensitivity (Sobol + PCE)", best["sensitivity_s"]),
             ("    of which Saltelli design + transform", best["sens_sampling_s"]),
             ("    of which model runs", best["sens_model_s"]),
-            ("    of which SALib indices + bootstrap", best["sens_indices_s"]),
+            ("    of which Sobol indices + bootstrap", best["sens_indices_s"]),
             ("    of which PCE fit (incl. LOO, holdout)", best["sens_pce_s"]),
             ("decisions (nominal + decision stage)", best["decisions_s"]),
         ]
