@@ -25,6 +25,7 @@ from ._common import (
 __all__: list[str] = []
 
 _CROSS_PRODUCT_LIMIT = 20_000_000  # bootstrap cross-products kept in memory (<= 160 MB)
+_REPLICATES_PER_PRODUCT = 16  # bootstrap replicates whose weighted sums are one product
 
 
 class NetBenefit(NamedTuple):
@@ -165,8 +166,8 @@ def _bootstrap_values(x: np.ndarray, nb: np.ndarray, n_bootstrap: int, gen: np.r
     A resample is represented by its multinomial row counts w, so each replicate is a
     weighted least-squares fit through the p x p normal equations (X' W X) c = X' W y on
     unit-scaled columns, without copying the design. The cross-products x_a x_b and
-    x_a y are formed once, so a replicate costs one weighted column sum (``einsum``,
-    single-threaded: tall-skinny BLAS calls thrash when the cores are busy).
+    x_a y are formed once, so the weighted column sums of a batch of replicates are one
+    matrix product.
     """
     n, p = x.shape
     scale = np.where(x.std(axis=0) > 0, x.std(axis=0), 1.0)
@@ -180,24 +181,30 @@ def _bootstrap_values(x: np.ndarray, nb: np.ndarray, n_bootstrap: int, gen: np.r
             [xs[:, ia] * xs[:, ib], (xs[:, :, None] * inc[:, None, :]).reshape(n, -1)], axis=1
         )
     reps = np.empty(n_bootstrap)
-    for b in range(n_bootstrap):  # loop over replicates, not samples
-        w = np.bincount(gen.integers(0, n, n), minlength=n).astype(float)
-        if precompute:
-            sums = np.einsum("i,ij->j", w, cross)
-            gram = np.empty((p, p))
-            gram[ia, ib] = sums[: ia.size]
-            gram[ib, ia] = sums[: ia.size]
-            rhs = sums[ia.size :].reshape(p, -1)
-        else:
-            xw = xs * w[:, None]
-            gram, rhs = xw.T @ xs, xw.T @ inc
-        try:
-            coef = np.linalg.solve(gram, rhs)
-        except np.linalg.LinAlgError:
-            coef = np.linalg.lstsq(gram, rhs, rcond=None)[0]
-        f = _within_range(np.einsum("ij,jk->ik", xs, coef), inc)  # fitted NB_j - NB_0
-        current = int(np.argmax(np.concatenate([[0.0], w @ inc])))
-        reps[b] = _value_from_fitted(np.column_stack([np.zeros(n), f]), weights=w, current=current)
+    # the resamples' row counts, drawn in the order of one replicate after another; the
+    # weighted column sums of a batch of replicates are one matrix product
+    counts = [np.bincount(gen.integers(0, n, n), minlength=n) for _ in range(n_bootstrap)]
+    for lo in range(0, n_bootstrap, _REPLICATES_PER_PRODUCT):
+        weights = np.array(counts[lo:lo + _REPLICATES_PER_PRODUCT], dtype=float)
+        batch_sums = weights @ cross if precompute else None
+        for b, w in enumerate(weights, start=lo):  # loop over replicates, not samples
+            if precompute:
+                sums = batch_sums[b - lo]
+                gram = np.empty((p, p))
+                gram[ia, ib] = sums[: ia.size]
+                gram[ib, ia] = sums[: ia.size]
+                rhs = sums[ia.size :].reshape(p, -1)
+            else:
+                xw = xs * w[:, None]
+                gram, rhs = xw.T @ xs, xw.T @ inc
+            try:
+                coef = np.linalg.solve(gram, rhs)
+            except np.linalg.LinAlgError:
+                coef = np.linalg.lstsq(gram, rhs, rcond=None)[0]
+            f = _within_range(xs @ coef, inc)  # fitted NB_j - NB_0
+            current = int(np.argmax(np.concatenate([[0.0], w @ inc])))
+            reps[b] = _value_from_fitted(np.column_stack([np.zeros(n), f]), weights=w,
+                                         current=current)
     return reps
 
 
