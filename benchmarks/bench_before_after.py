@@ -12,12 +12,16 @@ Figures are the best of the rounds, in CPU seconds of the process (``time.proces
 less sensitive to other jobs than wall time, which is printed beside it).
 
 Measured per side (models: the bundled demos, inputs by inverse transform of their marginals):
-* glider (configs/glider_transit.toml) and propeller (configs/under_ice_section.toml), each
+* glider (configs/glider_transit.toml) and propeller (configs/under_ice_section.toml) of each
+  side's own tree (the demos changed along the history: the older side may fly a simpler
+  demo), each
   in its own process, ``uq.simulate.simulate_arrays``: us/sample in one call of n rows, and n rows in calls of
   4096 and 512 rows (the assessment's Saltelli and former replicate call sizes), and the
   glider / propeller ratio at equal call size;
-* with ``--assess``: the default ``uq.studies.assess.assess`` of the glider demo, CPU and wall,
-  and its stage timings (``Assessment.timings_s``).
+* with ``--assess``: the default ``assess`` of each demo (``uq.studies.assess``, or
+  ``uq.assess`` in the layout before the reorganisation), CPU and wall, and its stage
+  timings (``Assessment.timings_s``). The two sides may not do the same work: compare the
+  stages they share, and read the added stages as added work.
 """
 from __future__ import annotations
 
@@ -31,8 +35,13 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-GLIDER = ROOT / "configs" / "glider_transit.toml"
-PROPELLER = ROOT / "configs" / "under_ice_section.toml"
+DEMOS = {"glider": "glider_transit.toml", "propeller": "under_ice_section.toml"}
+
+
+def _demo(name: str) -> Path:
+    """The demo scenario of the side being measured (its own configs/: the scenario format
+    and the demos changed along the history)."""
+    return Path(os.environ.get("PYTHONPATH", str(ROOT)).split(os.pathsep)[0]) / "configs" / DEMOS[name]
 CALL_SIZES = (4096, 512)
 
 
@@ -46,7 +55,7 @@ def _child_model(name: str, n: int) -> dict:
 
     warnings.simplefilter("ignore")  # the under-ice demo is below the viscosity fit's range
     out = {}
-    for path in ({"glider": GLIDER, "propeller": PROPELLER}[name],):
+    for path in (_demo(name),):
         scenario = load_scenario(path)
         u = np.random.default_rng(1).random((n, len(scenario.inputs)))
         x = np.column_stack([m.ppf(u[:, i]) for i, m in enumerate(scenario.inputs)])
@@ -60,20 +69,24 @@ def _child_model(name: str, n: int) -> dict:
     return out
 
 
-def _child_assess() -> dict:
+def _child_assess(name: str) -> dict:
     import warnings
 
     from uq.scenario import load_scenario
-    from uq.studies.assess import assess
+    try:
+        from uq.studies.assess import assess
+    except ImportError:  # the layout before the reorganisation (2469529 and earlier)
+        from uq.assess import assess
 
     warnings.simplefilter("ignore")
-    scenario = load_scenario(GLIDER)
+    scenario = load_scenario(_demo(name))
     cpu, wall = time.process_time(), time.perf_counter()
     result = assess(scenario)
-    out = {"assess": (time.process_time() - cpu, time.perf_counter() - wall)}
+    label = f"assess {name}"
+    out = {label: (time.process_time() - cpu, time.perf_counter() - wall)}
     for stage, seconds in result.timings_s.items():
-        out[f"  {stage}"] = (float(seconds), float(seconds))
-    out["P(success)"] = (float(result.propagation.p_success.estimate),) * 2
+        out[f"  {name}: {stage}"] = (float(seconds), float(seconds))
+    out[f"P(success) {name}"] = (float(result.propagation.p_success.estimate),) * 2
     return out
 
 
@@ -103,12 +116,12 @@ def main(argv=None) -> None:
     parser.add_argument("--n", type=int, default=16384)
     parser.add_argument("--rounds", type=int, default=3)
     parser.add_argument("--assess", action="store_true")
-    parser.add_argument("--child", choices=("glider", "propeller", "assess"),
-                        help=argparse.SUPPRESS)
+    parser.add_argument("--child", choices=("glider", "propeller", "assess-glider",
+                                            "assess-propeller"), help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
     if args.child:
-        print(json.dumps(_child_assess() if args.child == "assess"
-                         else _child_model(args.child, args.n)))
+        print(json.dumps(_child_assess(args.child.split("-")[1])
+                         if args.child.startswith("assess") else _child_model(args.child, args.n)))
         return
     sys.path.insert(0, str(Path(__file__).resolve().parent))
     import _machine
@@ -120,7 +133,8 @@ def main(argv=None) -> None:
         best: dict = {side: {} for side in sides}
         # one model per process: glibc's heap state after one model (its mmap threshold
         # is raised by large frees) changed the next one's timing by up to 40 %
-        for what in ("glider", "propeller") + (("assess",) if args.assess else ()):
+        for what in ("glider", "propeller") + (("assess-glider", "assess-propeller")
+                                               if args.assess else ()):
             for _ in range(args.rounds):
                 for side, tree in sides.items():
                     for key, value in _run(tree, what, args.n).items():
@@ -131,8 +145,10 @@ def main(argv=None) -> None:
     unit = lambda key: "s" if key.startswith(("assess", "  ")) else ""  # noqa: E731
     print(f"{'measure':<26}{'before CPU':>12}{'after CPU':>12}{'ratio':>8}"
           f"{'before wall':>13}{'after wall':>12}")
-    for key in best["after"]:
-        b, a = best["before"].get(key, (float("nan"),) * 2), best["after"][key]
+    keys = list(best["after"]) + [k for k in best["before"] if k not in best["after"]]
+    for key in keys:
+        nan = (float("nan"),) * 2
+        b, a = best["before"].get(key, nan), best["after"].get(key, nan)
         label = key if unit(key) or key.startswith("P(") else f"{key} rows/call [us/sample]"
         print(f"{label:<26}{b[0]:>12.4g}{a[0]:>12.4g}{b[0] / a[0]:>8.2f}"
               f"{b[1]:>13.4g}{a[1]:>12.4g}")

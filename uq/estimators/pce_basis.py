@@ -73,8 +73,28 @@ def hyperbolic_multi_indices(dimensions: int, degree: int, *, q_norm: float = 1.
     return np.ascontiguousarray(idx, dtype=int)
 
 
+_RECURRENCES: dict[tuple[str, str, int], np.ndarray] = {}
+_RECURRENCES_KEPT = 256
+
+
 def _recurrence(distribution: chaospy.Distribution, degree: int) -> np.ndarray:
-    """Three-term recurrence coefficients (alpha_k, beta_k), k = 0..degree."""
+    """Three-term recurrence coefficients (alpha_k, beta_k), k = 0..degree.
+
+    Kept per distribution (its class and repr, which spells every parameter in full) and
+    degree: chaospy takes 20-40 ms per call, and an assessment on unit variables asks for the
+    same uniform marginal once per input (sweeps and studies, once per variant).
+    """
+    key = (type(distribution).__qualname__, repr(distribution), int(degree))
+    coeffs = _RECURRENCES.get(key)
+    if coeffs is None:
+        coeffs = _new_recurrence(distribution, int(degree))
+        if len(_RECURRENCES) >= _RECURRENCES_KEPT:
+            _RECURRENCES.clear()
+        _RECURRENCES[key] = coeffs
+    return coeffs
+
+
+def _new_recurrence(distribution: chaospy.Distribution, degree: int) -> np.ndarray:
     (alpha, beta), _, _ = chaospy.stieltjes(int(degree), distribution)
     coeffs = np.stack([np.asarray(alpha, float)[0], np.asarray(beta, float)[0]])
     if not np.all(np.isfinite(coeffs)) or np.any(coeffs[1, 1:] <= 0):
@@ -82,6 +102,7 @@ def _recurrence(distribution: chaospy.Distribution, degree: int) -> np.ndarray:
             f"could not build orthonormal polynomials up to degree {degree} for "
             f"{distribution}: recurrence coefficients are not finite/positive"
         )
+    coeffs.setflags(write=False)
     return coeffs
 
 

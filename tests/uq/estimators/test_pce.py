@@ -340,3 +340,23 @@ def test_input_validation():
         fit_polynomial_chaos(u, x, x[:, 0], q_norm=1.5, seed=0)
     with pytest.raises(PolynomialChaosInputError, match="holdout_fraction"):
         fit_polynomial_chaos(u, x, x[:, 0], holdout_fraction=1.0, seed=0)
+
+
+def test_recurrence_kept_per_distribution_matches_closed_forms():
+    """Three-term recurrences against the classical closed forms (Gautschi 2004, table 1.1):
+    Normal(mu, s): alpha_k = mu, beta_k = k s^2 (k >= 1); Uniform(0, 1) (shifted Legendre):
+    alpha_k = 1/2, beta_k = k^2 / (4 (4 k^2 - 1)). Asked twice (the second answer is the kept
+    one) and for two normals differing only in sigma, which must not share an entry."""
+    import chaospy
+
+    from uq.estimators.pce_basis import _recurrence
+
+    k = np.arange(1, 5)
+    for _ in range(2):
+        for sigma in (1.0, 2.0):
+            c = _recurrence(chaospy.Normal(mu=0.3, sigma=sigma), 4)
+            np.testing.assert_allclose(c[0], 0.3, atol=1e-9)
+            np.testing.assert_allclose(c[1, 1:], k * sigma ** 2, rtol=1e-9)
+        u = _recurrence(chaospy.Uniform(0.0, 1.0), 4)
+        np.testing.assert_allclose(u[0], 0.5, atol=1e-12)
+        np.testing.assert_allclose(u[1, 1:], k ** 2 / (4.0 * (4.0 * k ** 2 - 1.0)), rtol=1e-9)
