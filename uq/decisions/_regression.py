@@ -220,7 +220,12 @@ def _value_from_fitted(g: np.ndarray, weights: np.ndarray | None = None,
     w = np.ones(n) if weights is None else weights
     if current is None:
         current = int(np.argmax(w @ g))
-    gain = np.max(g - g[:, [current]], axis=1)
+    # the row maximum column by column: exact, and several times faster than a reduction
+    # along rows of a few columns
+    base = g[:, current]
+    gain = g[:, 0] - base
+    for k in range(1, g.shape[1]):
+        np.maximum(gain, g[:, k] - base, out=gain)
     return float(w @ gain) / float(np.sum(w))
 
 

@@ -26,6 +26,7 @@ from __future__ import annotations
 
 from uq.errors import InputError, TransitRiskError
 
+import functools
 import logging
 import os
 from concurrent.futures import ProcessPoolExecutor
@@ -33,12 +34,14 @@ from contextlib import contextmanager
 from typing import Any, Callable, Iterable, Iterator
 
 import numpy as np
+import threadpoolctl
 
 __all__ = [
     "BackendError",
     "DaskUnavailableError",
     "DASK_EXTRA_HINT",
     "local_executor",
+    "one_blas_thread",
     "DaskExecutor",
     "dask_executor",
     "executor_for",
@@ -54,6 +57,24 @@ class BackendError(InputError):
 
 class DaskUnavailableError(TransitRiskError, ImportError):
     """The Dask backend was asked for but ``dask`` / ``distributed`` is not installed."""
+
+
+def one_blas_thread(func: Callable) -> Callable:
+    """Run ``func`` with every loaded BLAS library limited to one thread (threadpoolctl).
+
+    The estimators make hundreds of small matrix products (the knowledge band's logistic
+    fits, the value-of-information bootstrap, the PCE least squares). A threaded BLAS gains
+    nothing on them and, when the cores are busy (other workers, other jobs), its threads
+    spin and wait: the default under-ice assessment took 7.2 s instead of 2.5 s with both
+    cores loaded (benchmarks/README.md). Parallel work here goes through workers, never
+    through BLAS threads. One thread also makes the products the same whatever the machine's
+    core count. The limit is lifted when ``func`` returns.
+    """
+    @functools.wraps(func)
+    def limited(*args, **kwargs):
+        with threadpoolctl.threadpool_limits(limits=1, user_api="blas"):
+            return func(*args, **kwargs)
+    return limited
 
 
 def _check_count(value: Any, name: str) -> int:

@@ -35,6 +35,7 @@ from typing import Any, Callable
 import numpy as np
 
 from uq import decisions, estimators
+from uq.sampling.backends import one_blas_thread
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE
 from uq.scenario import Scenario
 from uq.simulate import (FAILURE_MODE_NAMES, FailureMode, NominalResult, ScenarioModel, nominal,
@@ -182,6 +183,7 @@ def package_versions() -> dict[str, str]:
     return out
 
 
+@one_blas_thread
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            scheme: str | None = None, replicates: int | None = None,
            sensitivity_base_n: int | None = None, workers: int = 1, chunk_blocks: int = 1,

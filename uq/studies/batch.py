@@ -30,6 +30,7 @@ from scipy import stats
 
 from uq import decisions, estimators
 from uq.studies.assess import package_versions
+from uq.sampling.backends import one_blas_thread
 from uq.sampling.engine import CollectReducer, CountReducer, MultiReducer, SumReducer, stream
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign
 from uq.scenario import Scenario
@@ -293,6 +294,7 @@ def _resolve(study: Study, samples, seed) -> tuple[int, int]:
     return int(samples), int(seed)
 
 
+@one_blas_thread
 def run_study(study: Study, *, samples: int | None = None, seed: int | None = None,
               executor=None, progress: Callable[[int], None] | None = None,
               chunk_blocks: int = 1, block_size: int = STUDY_BLOCK_SIZE,

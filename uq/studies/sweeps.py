@@ -18,6 +18,7 @@ import pandas as pd
 from scipy import stats
 
 from uq import decisions
+from uq.sampling.backends import one_blas_thread
 from uq.sampling.inputs import UNIT_CLIP, InputModel, ScipyMarginal
 from uq.sampling.plans import SampleDesign
 from uq.studies.propagation import _settings
@@ -206,6 +207,7 @@ class SweepResult:
         return frame
 
 
+@one_blas_thread
 def sweep_setpoint(scenario: Scenario, field: str, values: Sequence[float], *,
                    samples: int | None = None, seed: int | None = None,
                    scheme: str | None = None, settings=None, reference=None,
@@ -290,6 +292,7 @@ def comparability_problem(a: Scenario, b: Scenario) -> str | None:
     return None
 
 
+@one_blas_thread
 def compare_scenarios(a: Scenario, b: Scenario, *, samples: int | None = None,
                       seed: int | None = None, scheme: str | None = None, settings=None,
                       reference=None, force: bool = False,

@@ -140,3 +140,22 @@ def test_assess_and_sweep_on_a_two_worker_cluster_equal_the_local_run(tmp_path):
     for other in (dask_sweep, by_file_sweep):
         np.testing.assert_array_equal(other.to_frame().to_numpy(),
                                       local_sweep.to_frame().to_numpy())
+
+
+def test_one_blas_thread_limits_blas_only_while_the_call_runs():
+    """Inside an entry point every loaded BLAS runs one thread (threadpoolctl's own report),
+    and the host process's setting is back afterwards."""
+    import numpy as np  # noqa: F401  (loads numpy's BLAS)
+    from threadpoolctl import threadpool_info, threadpool_limits
+
+    from uq.sampling.backends import one_blas_thread
+
+    def blas_threads():
+        return [i["num_threads"] for i in threadpool_info() if i["user_api"] == "blas"]
+
+    with threadpool_limits(limits=2, user_api="blas"):
+        before = blas_threads()
+        inside = one_blas_thread(blas_threads)()
+        after = blas_threads()
+    assert inside and all(n == 1 for n in inside)
+    assert after == before
