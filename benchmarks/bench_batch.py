@@ -32,6 +32,28 @@ from uq.scenario.study_file import load_study  # noqa: E402
 from uq.studies.batch import run_study  # noqa: E402
 
 
+class _PayloadRecorder:
+    """Wraps a DaskExecutor: records the pickled size of every task it ships, and of each
+    object it sends to the cluster once, then maps as the executor does."""
+
+    def __init__(self, executor, payloads):
+        self.executor, self.payloads = executor, payloads
+
+    def map(self, fn, iterable):
+        import pickle
+
+        tasks = list(iterable)
+        sent_before = set(self.executor._sent)
+        shipped = self.executor._scatter_shared_parts(tasks)
+        self.payloads["tasks"].extend(len(pickle.dumps(t)) for t in shipped)
+        self.payloads["sent once"].extend(
+            len(pickle.dumps(obj)) for key, (obj, _) in self.executor._sent.items()
+            if key not in sent_before)
+        futures = self.executor.client.map(fn, shipped, retries=self.executor.retries,
+                                           pure=False)
+        return self.executor._results(futures)
+
+
 def main(argv=None) -> int:
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--study", default=str(ROOT / "configs" / "speed_and_battery_study.toml"))
@@ -58,6 +80,7 @@ def main(argv=None) -> int:
         print(f"  {label:<22s} {seconds:7.1f} s", flush=True)
 
     startup = None
+    payloads: dict[str, list[int]] = {"tasks": [], "sent once": []}
     for _ in range(max(1, args.repeat)):
         with backends.local_executor(1) as ex:
             timed("local, 1 process", ex)
@@ -67,7 +90,7 @@ def main(argv=None) -> int:
             t0 = time.perf_counter()
             with backends.dask_executor(local_workers=2) as ex:
                 startup = time.perf_counter() - t0
-                timed("dask LocalCluster(2)", ex)
+                timed("dask LocalCluster(2)", _PayloadRecorder(ex, payloads))
     ref = frames["local, 1 process"]
     identical = {k: bool(ref.equals(f)) for k, f in frames.items()}
     t1 = times["local, 1 process"]
@@ -80,6 +103,10 @@ def main(argv=None) -> int:
         "ratio_local1_over_dask2": (t1 / times["dask LocalCluster(2)"]
                                     if "dask LocalCluster(2)" in times else None),
         "identical_to_local_1_process": identical,
+        # pickled bytes of what the Dask executor hands to client.map per task (shared
+        # objects replaced by references), and of the objects it sent once
+        "dask_payload_per_task_bytes_max": max(payloads["tasks"], default=None),
+        "dask_objects_sent_once_bytes": sorted(set(payloads["sent once"]), reverse=True)[:4],
     }
     print(json.dumps(out, indent=2))
     with pd.option_context("display.width", 200):

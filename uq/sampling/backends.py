@@ -139,7 +139,9 @@ class DaskExecutor:
     A task of the engine is a tuple (design, model, reducer, input model, first block, last
     block); every task carries the same model and plan objects. ``map`` sends each object that
     all tasks share to the cluster once (as a small task that returns it, so a lost copy is
-    recomputed like any lost result) and gives the tasks a reference to it, so a task's payload is a few hundred bytes whatever the model's size. It then submits
+    recomputed like any lost result) and gives the tasks a reference to it, so a task's
+    payload is a few hundred bytes whatever the model's size; later ``map`` calls with the
+    same objects reuse those copies. It then submits
     every task with ``client.map(fn, tasks, retries=retries, pure=False)`` — ``pure=False`` so
     that equal-looking tasks are never merged — and yields ``future.result()`` in submission
     order. If the consumer stops early (an error downstream), the futures not yet collected
@@ -151,6 +153,7 @@ class DaskExecutor:
             raise BackendError(f"retries must be an integer >= 0; got {retries!r}")
         self.client = client
         self.retries = int(retries)
+        self._sent: dict[int, tuple[Any, Any]] = {}  # id -> (object, its cluster copy)
 
     def map(self, fn: Callable[[Any], Any], iterable: Iterable[Any]) -> Iterator[Any]:
         """Submit ``fn(task)`` for every task now; return an iterator of results in order."""
@@ -159,8 +162,13 @@ class DaskExecutor:
         return self._results(futures)
 
     def _scatter_shared_parts(self, tasks: list) -> list:
-        """Tasks with every object that all of them share replaced by one scattered copy."""
-        if len(tasks) < 2 or not all(isinstance(t, tuple) for t in tasks):
+        """Tasks with every object that all of them share replaced by one scattered copy.
+
+        A copy is kept for the executor's lifetime and reused by later ``map`` calls that
+        pass the same object (a study streams each replicate with its own call, all with
+        one model), so the model crosses to the cluster once, not once per call.
+        """
+        if not tasks or not all(isinstance(t, tuple) for t in tasks):
             return tasks
         width = len(tasks[0])
         shared = [i for i in range(width)
@@ -168,10 +176,18 @@ class DaskExecutor:
                   and all(len(t) == width and t[i] is tasks[0][i] for t in tasks)]
         if not shared:
             return tasks
-        # a task that returns the object (not client.scatter): if the worker holding it is lost,
-        # the scheduler recomputes it from the task, as it does for every other lost result
-        refs = {i: self.client.submit(_identity, tasks[0][i], pure=False) for i in shared}
+        refs = {i: self._reference(tasks[0][i]) for i in shared}
         return [tuple(refs.get(i, part) for i, part in enumerate(t)) for t in tasks]
+
+    def _reference(self, obj: Any) -> Any:
+        """The cluster's copy of ``obj``, sent on first use. Kept with the object itself, so
+        its id cannot be reused by another object while the entry lives."""
+        entry = self._sent.get(id(obj))
+        if entry is None:
+            # a task that returns the object (not client.scatter): if the worker holding it
+            # is lost, the scheduler recomputes it from the task, as for any lost result
+            entry = self._sent[id(obj)] = (obj, self.client.submit(_identity, obj, pure=False))
+        return entry[1]
 
     def _results(self, futures: list) -> Iterator[Any]:
         done = 0
