@@ -447,10 +447,12 @@ def fly_route(
         _rk.fly_legs_rk(rates, battery, route, rec, steps_per_leg=steps_per_leg,
                         profile_every=steps_per_leg // profile_steps)
     arrival = _arrival(battery, rec)
-    # a trace item is one column (n,) or a block of columns (n, m) of one leg
-    profile = RouteProfile(*(np.column_stack(column) for column in list(zip(*rec.trace))[:4]),
-                           leg=np.concatenate([np.full(np.shape(item[0])[1:] or 1, item[4])
-                                               for item in rec.trace]).astype(int))
+    if rec.columns is not None:  # written in place by the flight
+        profile = RouteProfile(*rec.columns)
+    else:  # a trace item is one column (n,) or a block of columns (n, m) of one leg
+        profile = RouteProfile(*(np.column_stack(column) for column in list(zip(*rec.trace))[:4]),
+                               leg=np.concatenate([np.full(np.shape(item[0])[1:] or 1, item[4])
+                                                   for item in rec.trace]).astype(int))
     # past the route end with the last leg's conditions, only to find where the range ends
     follow = arrival["arrived"] & np.isnan(rec.range_x)
     if extension > 0 and follow.any():

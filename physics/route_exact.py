@@ -77,11 +77,19 @@ def fly_legs_exact(rates, battery, route: RouteInputs, rec: RouteRecord, *,
                    profile_steps: int) -> None:
     """Fly every leg of the route, writing events into ``rec``; ``profile_steps`` profile
     columns per leg (at equal fractions of the leg)."""
-    rec.record(route.fouling(rec.clock), 0)
+    # the profile is written in place, one block of columns per leg after the departure's
+    # (a list of blocks stacked at the end copied the whole profile once more)
+    n_cols = 1 + route.n_legs * profile_steps
+    position, elapsed, energy, fouling = np.empty((4, route.n, n_cols))
+    position[:, 0], elapsed[:, 0], energy[:, 0] = rec.x, rec.t, rec.energy
+    fouling[:, 0] = route.fouling(rec.clock)
+    rec.columns = (position, elapsed, energy, fouling,
+                   np.concatenate([[0], np.repeat(np.arange(route.n_legs), profile_steps)]))
     margin = battery.drawable(rec.t) - rec.energy
     timed = bool(np.isfinite(route.max_duration).any())
     fractions = np.arange(1, profile_steps + 1) / profile_steps
     for leg in range(route.n_legs):
+        cols = slice(1 + leg * profile_steps, 1 + (leg + 1) * profile_steps)
         seg = _Leg(rates, route, leg)
         ok = rec.moving & seg.fine
         stopped = rec.moving & ~ok
@@ -95,10 +103,11 @@ def fly_legs_exact(rates, battery, route: RouteInputs, rec: RouteRecord, *,
         span = length / seg.speed
         # the profile columns of the leg, its end last: (n, profile_steps) at once
         s_cols = span[:, None] * fractions
-        drawn, phi = seg.drawn(route, rec.clock[:, None], s_cols)
-        x_cols = rec.x[:, None] + length[:, None] * fractions
-        t_cols = rec.t[:, None] + s_cols
-        e_cols = rec.energy[:, None] + drawn
+        drawn, fouling[:, cols] = seg.drawn(route, rec.clock[:, None], s_cols)
+        x_cols = np.multiply(length[:, None], fractions, out=position[:, cols])
+        x_cols += rec.x[:, None]
+        t_cols = np.add(rec.t[:, None], s_cols, out=elapsed[:, cols])
+        e_cols = np.add(rec.energy[:, None], drawn, out=energy[:, cols])
         x_end, t_end, e_end = x_cols[:, -1], t_cols[:, -1], e_cols[:, -1]
         margin_end = battery.drawable(t_end) - e_end
         cross = ok & (margin > 0.0) & (margin_end <= 0.0) & np.isnan(rec.range_x)
@@ -118,8 +127,7 @@ def fly_legs_exact(rates, battery, route: RouteInputs, rec: RouteRecord, *,
                                        rec.seen_events).astype(np.int8)
         rec.leg_energy[:, leg] = e_end - rec.energy
         rec.leg_distance[:, leg] = x_end - rec.x
-        rec.trace.append((x_cols, t_cols, e_cols, phi, leg))
-        rec.x, rec.t, rec.energy = x_end, t_end, e_end
+        rec.x, rec.t, rec.energy = x_end.copy(), t_end.copy(), e_end.copy()
         rec.clock = rec.clock + seg.growth * span
         rec.moving = ok
         margin = margin_end

@@ -82,6 +82,8 @@ class RouteRecord:
     surfacings: np.ndarray = None  # [-]
     # profile columns: (position, elapsed, energy, fouling, leg) at each recorded point
     trace: list = field(default_factory=list)
+    # or the whole profile, written in place by the flight ((n, K) arrays and the (K,) legs)
+    columns: tuple | None = None
 
     def __post_init__(self):
         n, shape = self.n, (self.n, self.n_legs)
