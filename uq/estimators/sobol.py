@@ -7,7 +7,8 @@ on every row *in the order of the design*.  The estimator then reads the
 design's own metadata (base size, number of factors or groups, second-order
 flag) instead of inferring them from the length of the output array.
 
-Sampling follows SALib (``SALib.sample.sobol``); the estimators are SALib's
+The design's rows are SALib's (``SALib.sample.sobol``, built with array operations
+and tested equal); the estimators are SALib's
 (``SALib.analyze.sobol``): the Saltelli (2010) first-order and Jansen (1999)
 total-order estimators with bootstrap confidence intervals. Without
 second-order rows they run for all factors at once in
