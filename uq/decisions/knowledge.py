@@ -27,6 +27,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 import numpy as np
 
@@ -159,7 +160,25 @@ class KnowledgeBand(_ResultMixin):
         return {k: v for k, v in _plain(self).items() if k != "sample_values"}
 
 
-def _logistic_fit(x: np.ndarray, y: np.ndarray, w: np.ndarray | None = None,
+class _UnitScaled(NamedTuple):
+    """A design's columns over their standard deviations (the intercept column as it is), and
+    its transpose in contiguous memory: computed once for all the bootstrap fits."""
+
+    xs: np.ndarray
+    xt: np.ndarray
+
+
+def _unit_scaled(x) -> _UnitScaled:
+    if isinstance(x, _UnitScaled):
+        return x
+    sd = x.std(axis=0)
+    scale = np.where(sd > 0, sd, 1.0)
+    scale[0] = 1.0
+    xs = x / scale
+    return _UnitScaled(xs, np.ascontiguousarray(xs.T))
+
+
+def _logistic_fit(x: "np.ndarray | _UnitScaled", y: np.ndarray, w: np.ndarray | None = None,
                   max_iter: int = 50, start: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Fitted P(y = 1 | x) of a ridge-guarded logistic regression by Newton (IRLS) steps.
 
@@ -167,12 +186,9 @@ def _logistic_fit(x: np.ndarray, y: np.ndarray, w: np.ndarray | None = None,
     the weighted mean of the fitted probabilities equals that of y. Returns the fitted
     probabilities and the coefficients (on unit-scaled columns; ``start`` warm-starts).
     """
-    n, p = x.shape
+    xs, xt = _unit_scaled(x)
+    n, p = xs.shape
     w = np.ones(n) if w is None else w
-    scale = np.where(x.std(axis=0) > 0, x.std(axis=0), 1.0)
-    scale[0] = 1.0
-    xs = x / scale
-    xt = np.ascontiguousarray(xs.T)
     penalty = np.full(p, _RIDGE * float(w.sum()))
     penalty[0] = 0.0
     ybar = float(np.clip(w @ y / w.sum(), 1e-9, 1 - 1e-9))
@@ -298,8 +314,9 @@ def knowledge_band(
         if y.min() == y.max():
             fit = lambda w: np.full(n, y[0])  # noqa: E731
         else:
-            beta0 = _logistic_fit(x, y)[1]
-            fit = lambda w: _logistic_fit(x, y, w, start=beta0)[0]  # noqa: E731
+            scaled = _unit_scaled(x)
+            beta0 = _logistic_fit(scaled, y)[1]
+            fit = lambda w: _logistic_fit(scaled, y, w, start=beta0)[0]  # noqa: E731
     values = fit(None)
     qs, cred = _summaries(values, p_star)
     q_lo = q_hi = (None,) * len(BAND_QUANTILES)
