@@ -509,7 +509,7 @@ class CollectReducer:
         return out
 
     def reduce(self, partials: list) -> dict:
-        kept = [p for p in partials if p is not None]
+        kept = self._kept(partials)
         result = {}
         for key in self.keys:
             if kept:
@@ -518,9 +518,25 @@ class CollectReducer:
                 result[key] = np.empty(0)
         return result
 
-    def fold(self, partials: list) -> dict | None:
-        """The kept rows so far, concatenated (None when there are none yet)."""
-        return self.reduce(partials) if any(p is not None for p in partials) else None
+    @staticmethod
+    def _kept(partials: list) -> list:
+        """The blocks' kept rows in order (a folded partial holds several blocks')."""
+        out = []
+        for p in partials:
+            if isinstance(p, _KeptBlocks):
+                out.extend(p)
+            elif p is not None:
+                out.append(p)
+        return out
+
+    def fold(self, partials: list) -> "_KeptBlocks":
+        """The kept rows of the blocks so far, as they are (no copy; concatenated once, at
+        the end)."""
+        return _KeptBlocks(self._kept(partials))
+
+
+class _KeptBlocks(list):
+    """Several blocks' kept rows: a folded partial of :class:`CollectReducer`."""
 
 
 class MultiReducer:
