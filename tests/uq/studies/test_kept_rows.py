@@ -168,3 +168,22 @@ def test_a_row_limit_below_two_rows_per_replicate_is_refused(scenario):
 
     with pytest.raises(InputError, match="kept_rows 16: expected an integer of at least 2 rows"):
         _settings(scenario, samples=N, kept_rows=16)
+
+
+def test_the_report_of_a_subsample_names_it_and_numbers_its_rows(both, tmp_path):
+    import json
+
+    import pandas as pd
+
+    from uq.report import write_report
+
+    _, few = both
+    folder = write_report(few, tmp_path / "report")
+    page = (folder / "index.html").read_text(encoding="utf-8")
+    assert "a subsample of 256 of the 1,024 samples: the first 16 of each replicate" in page
+    summary = json.loads((folder / "summary.json").read_text(encoding="utf-8"))
+    assert summary["kept_rows"]["rows"] == KEPT and summary["samples"] == N
+    if (folder / "samples.parquet").exists():  # the optional ocean extra
+        frame = pd.read_parquet(folder / "samples.parquet")
+        # the per-sample file holds the kept rows under their own plan row numbers
+        np.testing.assert_array_equal(frame["sample"], few.propagation.kept.row_index())
