@@ -172,9 +172,9 @@ class KeptRows:
         """Where the kept rows come from, for the report and summary.json."""
         if self.every_row:
             return f"every one of the {self.samples:,} samples"
-        each = "replicate" if self.replicates > 1 else "plan"
+        each = "of each replicate" if self.replicates > 1 else "in plan order"
         return (f"a subsample of {self.rows:,} of the {self.samples:,} samples: the first "
-                f"{self.per_replicate:,} of each {each}")
+                f"{self.per_replicate:,} {each}")
 
     def caution(self) -> str:
         """What the kept rows are used for, and what counts every sample."""
