@@ -33,6 +33,8 @@ from uq.scenario import (
 
 __all__ = [
     "SECONDS_PER_DAY",
+    "RANGE_EXTENSION",
+    "range_limit_km",
     "FAILURE_MODE_NAMES",
     "possible_failure_modes",
     "FailureMode",
@@ -347,7 +349,7 @@ def _flight(scenario: Scenario, x: np.ndarray, **options):
         max_duration=f(scenario.limits.max_duration_days) * SECONDS_PER_DAY,
         current_policy=np.array([_CURRENT_CODES[leg.current_policy] for leg in scenario.legs]),
         **route,
-        **options,
+        **{"extension": RANGE_EXTENSION, **options},
     )
     rec = scenario.recovery
     under_ice = turnback.under_ice_outcome(
@@ -443,6 +445,16 @@ class ScenarioModel:
 def simulate(scenario: Scenario, x: np.ndarray, **options) -> pd.DataFrame:
     """Per-sample outcomes as a DataFrame, one row per row of ``x`` (see :meth:`Outcomes.to_frame`)."""
     return simulate_arrays(scenario, x, **options).to_frame(scenario)
+
+
+#: range is followed past the route end up to (1 + this) route lengths, then censored there
+RANGE_EXTENSION = 0.5
+
+
+def range_limit_km(scenario: Scenario) -> float:
+    """Longest range a sample can report [km]: the route length (its leg lengths as given)
+    times ``1 + RANGE_EXTENSION``, where an open range is censored."""
+    return float(scenario.route_length_km) * (1.0 + RANGE_EXTENSION)
 
 
 def nominal_inputs(scenario: Scenario) -> np.ndarray:

@@ -14,7 +14,8 @@ from ._common import (
     ShapeMismatchError,
     UnknownCodeError,
 )
-from .breakdown import BreakdownRow, FailureBreakdown, failure_breakdown
+from .breakdown import BreakdownRow, FailureBreakdown, failure_breakdown, failure_breakdown_from_counts
+from .outcome_counts import OutcomeCounts, OutcomeTally, mode_leg_counts
 from .comparison import (
     PairedComparison,
     RatioQuantile,
@@ -80,6 +81,10 @@ __all__ = [
     "BreakdownRow",
     "FailureBreakdown",
     "failure_breakdown",
+    "failure_breakdown_from_counts",
+    "OutcomeCounts",
+    "OutcomeTally",
+    "mode_leg_counts",
     # ship time
     "BookingRow",
     "ShipTimeContingency",

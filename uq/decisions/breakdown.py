@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .outcome_counts import MODE_CODES, mode_leg_counts
 from ._common import (
     ShapeMismatchError,
     UnknownCodeError,
@@ -19,7 +20,8 @@ from ._common import (
     _wilson,
 )
 
-__all__ = ["BreakdownRow", "FailureBreakdown", "failure_breakdown"]
+__all__ = ["BreakdownRow", "FailureBreakdown", "failure_breakdown",
+           "failure_breakdown_from_counts"]
 
 NO_LEG = -1  # failing-leg index of a sample that did not fail in any leg
 
@@ -160,13 +162,54 @@ def failure_breakdown(
         raise UnknownCodeError(
             f"failing_leg values {sorted(set(leg[bad].tolist()))[:5]} outside -1..{n_legs - 1} (len(leg_names) = {n_legs})"
         )
-    n_fail = int(np.count_nonzero(failed))
+    if mode.min() < 0:
+        raise UnknownCodeError(f"failure-mode codes {sorted(set(mode[mode < 0].tolist()))[:5]} "
+                               "are negative: expected codes >= 0")
+    codes = max(MODE_CODES, int(mode.max()) + 1, int(no_failure_code) + 1)
+    counts = mode_leg_counts(mode, leg, np.zeros(n, bool), n_legs, codes=codes).sum(axis=2)
+    return failure_breakdown_from_counts(
+        counts, mode_names=mode_names, leg_names=leg_names, confidence=confidence,
+        no_failure_code=no_failure_code, failure_probability=failure_probability)
+
+
+def failure_breakdown_from_counts(
+    mode_leg,
+    *,
+    mode_names: Mapping[int, str],
+    leg_names: Sequence[str],
+    confidence: float,
+    no_failure_code: int = 0,
+    failure_probability: tuple[float, float, float] | None = None,
+) -> FailureBreakdown:
+    """:func:`failure_breakdown` from counts by failure mode and failing leg.
+
+    Parameters
+    ----------
+    mode_leg : (codes, len(leg_names) + 1) array_like of int
+        Samples by failure-mode code (row) and failing leg + 1 (column 0: no leg), e.g.
+        :meth:`uq.decisions.outcome_counts.OutcomeCounts.mode_leg` over every sample streamed.
+    mode_names, leg_names, confidence, no_failure_code, failure_probability
+        As for :func:`failure_breakdown`.
+    """
+    confidence = _check_confidence(confidence)
+    cells = np.asarray(mode_leg, dtype=np.int64)
+    n_legs = len(leg_names)
+    n = int(cells.sum())
+    failed_rows = np.arange(cells.shape[0]) != no_failure_code
+    n_fail = int(cells[failed_rows].sum())
+    if n == 0:
+        raise ShapeMismatchError("no sample counted: expected at least one")
+    present = set(np.flatnonzero((cells.sum(axis=1) > 0) & failed_rows).tolist())
+    missing = present - set(int(k) for k in mode_names)
+    if missing:
+        raise UnknownCodeError(f"failure-mode codes {sorted(missing)} have no entry in mode_names")
 
     mode_codes = sorted(int(k) for k in mode_names if int(k) != no_failure_code)
-    mode_counts = np.array([np.count_nonzero(mode == c) for c in mode_codes], dtype=float)
+    mode_counts = np.array([cells[c].sum() if 0 <= c < cells.shape[0] else 0
+                            for c in mode_codes], dtype=float)
     modes = _rows("mode", mode_codes, [mode_names[c] for c in mode_codes], mode_counts, n, n_fail, confidence)
 
-    leg_counts_all = np.bincount(leg[failed] + 1, minlength=n_legs + 1).astype(float)
+    leg_counts_all = cells[failed_rows].sum(axis=0).astype(float)
     leg_codes = list(range(n_legs))
     names = list(leg_names)
     counts = leg_counts_all[1:]

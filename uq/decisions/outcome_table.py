@@ -15,9 +15,11 @@ import numpy as np
 
 from uq import estimators
 from uq.decisions._common import _fmt_prob, _fmt_prob_interval
+from uq.decisions.outcome_counts import OutcomeCounts, class_counts
 from uq.decisions.outcomes import OUTCOME_CLASS_NAMES, OutcomeClass, classify_outcomes
 
-__all__ = ["OutcomeRow", "HardwareRisk", "OutcomeTable", "outcome_table"]
+__all__ = ["OutcomeRow", "HardwareRisk", "OutcomeTable", "outcome_table", "HARDWARE_VALUES",
+           "hardware_values"]
 
 _PNR_QUANTILES = (0.05, 0.1, 0.5, 0.9, 0.95)
 
@@ -111,33 +113,72 @@ def _split(values: np.ndarray, sizes: Sequence[int]) -> list[np.ndarray]:
     return np.split(values, np.cumsum(sizes)[:-1])
 
 
-def _mean(values: np.ndarray, sizes: Sequence[int], scheme: str, confidence: float):
+#: the fields :func:`uq.decisions.outcomes.classify_outcomes` reads
+_CLASS_KEYS = ("success", "reaches_recovery", "failure_mode", "turned_back", "lost_under_ice")
+
+#: the per-sample probabilities behind the hardware risk, in :class:`HardwareRisk` order
+HARDWARE_VALUES = ("no_fault", "fault_under_ice", "fault_open_water", "success_without_fault",
+                   "lost_any_cause")
+
+
+def hardware_values(outcomes) -> np.ndarray:
+    """``(n, 5)`` per-sample probabilities of :data:`HARDWARE_VALUES` (picklable: the sampling
+    engine's workers call it to stream their moments over every sample)."""
+    classes = classify_outcomes(outcomes)
+    no_fault = np.asarray(outcomes["p_no_fault"], dtype=float)
+    under = np.asarray(outcomes["p_fault_under_ice"], dtype=float)
+    open_water = np.asarray(outcomes["p_fault_open_water"], dtype=float)
+    lost = classes == OutcomeClass.LOST_UNDER_ICE
+    # derived: an energy loss under ice is avoided only by a fault in open water before
+    # it (the vehicle is recovered); any other sample is lost by a fault under ice
+    lost_any = np.where(lost, 1.0 - open_water, under)
+    success = (classes == OutcomeClass.SUCCESS) * no_fault
+    return np.stack([no_fault, under, open_water, success, lost_any], axis=1)
+
+
+def _mean(moments: Sequence, pooled, constant, scheme: str, confidence: float):
     """Mean of a per-sample probability by the one mean rule
-    (:func:`uq.estimators.replicated_mean`: a replicate t-interval for RQMC), kept in [0, 1]."""
-    if np.ptp(values) == 0.0:
-        v = float(values[0])
+    (:func:`uq.estimators.replicated_mean_from_moments`: a replicate t-interval for RQMC),
+    kept in [0, 1]; ``moments`` per replicate, ``pooled`` over every sample, ``constant``
+    the value when every sample has the same (else None)."""
+    if constant is not None:
+        v = float(constant)
         return estimators.IntervalEstimate(estimate=v, lower=v, upper=v, confidence=confidence,
-                                           method="exact (no spread)", n=int(values.size))
-    parts = _split(values, sizes)
-    randomised = (scheme == "sobol" and len(sizes) >= 2
-                  and len({float(np.mean(part)) for part in parts}) > 1)
-    est = estimators.replicated_mean(parts if randomised else [values], randomised=randomised,
-                                     confidence=confidence)
+                                           method="exact (no spread)", n=int(pooled.n))
+    randomised = (scheme == "sobol" and len(moments) >= 2
+                  and len({float(m.mean) for m in moments}) > 1)
+    est = estimators.replicated_mean_from_moments(
+        moments if randomised else [pooled], randomised=randomised, confidence=confidence)
     return estimators.IntervalEstimate(
         estimate=est.estimate, lower=max(0.0, est.lower), upper=min(1.0, est.upper),
-        confidence=est.confidence, method=est.method, n=int(values.size))
+        confidence=est.confidence, method=est.method, n=int(pooled.n))
+
+
+def _hardware_of_rows(outcomes, sizes: Sequence[int]):
+    """Per-replicate and pooled moments of the hardware values of rows held in memory, and
+    the value where it has no spread."""
+    values = hardware_values(outcomes)
+    out = []
+    for j in range(values.shape[1]):
+        column = values[:, j]
+        out.append(([estimators.sample_moments(p) for p in _split(column, sizes)],
+                    estimators.sample_moments(column),
+                    float(column[0]) if np.ptp(column) == 0.0 else None))
+    return out
 
 
 def outcome_table(outcomes, *, replicate_sizes: Sequence[int], scheme: str, confidence: float,
-                  proportion, subsystems: int = 0) -> OutcomeTable:
+                  proportion, subsystems: int = 0, counts: OutcomeCounts | None = None,
+                  hardware=None) -> OutcomeTable:
     """Tabulate the outcome classes of a propagation.
 
     Parameters
     ----------
     outcomes : uq.simulate.Outcomes
-        Pooled over replicates, in plan order.
+        Pooled over replicates, in plan order: every sample, or the rows kept of a larger
+        sample (the point of no return's quantiles are then those of these rows).
     replicate_sizes : sequence of int
-        Samples of each replicate, in order (they sum to the number of samples).
+        Samples of each replicate, in order (they sum to the number of rows of ``outcomes``).
     scheme : str
         Sampling scheme of the plan ("sobol" uses the replicate rule).
     confidence : float
@@ -147,20 +188,36 @@ def outcome_table(outcomes, *, replicate_sizes: Sequence[int], scheme: str, conf
         assessment's one rule for a probability from per-replicate counts.
     subsystems : int
         Number of subsystems with a hazard (0: no hardware block).
+    counts : uq.decisions.OutcomeCounts, optional
+        The class counts of every sample, replicate by replicate; by default the tally of
+        ``outcomes``.
+    hardware : sequence, optional
+        Per value of :data:`HARDWARE_VALUES`, ``(moments per replicate, pooled moments,
+        the value if every sample has the same else None)`` over every sample; by default
+        those of ``outcomes``.
 
     Returns
     -------
     OutcomeTable
     """
-    classes = classify_outcomes(outcomes)
-    parts = _split(classes, replicate_sizes)
+    if counts is None:  # the class counts of the rows, replicate by replicate
+        ends = np.cumsum(replicate_sizes)
+        by_class = [class_counts({k: np.asarray(outcomes[k])[hi - m:hi] for k in _CLASS_KEYS
+                                  if k in outcomes})
+                    for m, hi in zip(replicate_sizes, ends)]
+        per_class = {int(c): [(int(t[int(c)]), int(m)) for t, m in zip(by_class, replicate_sizes)]
+                     for c in OutcomeClass}
+        samples = int(sum(replicate_sizes))
+    else:
+        per_class = {int(c): counts.of_class(int(c)) for c in OutcomeClass}
+        samples = counts.samples
     rows = []
     for code in OutcomeClass:
-        counts = [(int(np.sum(part == code)), int(part.size)) for part in parts]
-        est, _ = proportion(counts, scheme, confidence)
+        per_replicate = per_class[int(code)]
+        est, _ = proportion(per_replicate, scheme, confidence)
         rows.append(OutcomeRow(code=int(code), key=code.name.lower(),
                                name=OUTCOME_CLASS_NAMES[code],
-                               count=int(np.sum(classes == code)), probability=est))
+                               count=sum(c for c, _ in per_replicate), probability=est))
     pnr = np.asarray(outcomes["point_of_no_return_km"], dtype=float)
     has = np.isfinite(pnr)
     quantiles = []
@@ -169,23 +226,13 @@ def outcome_table(outcomes, *, replicate_sizes: Sequence[int], scheme: str, conf
             quantiles.append(estimators.quantile_interval(pnr[has], q, confidence=confidence))
         except estimators.EstimatorError:
             continue  # too few samples with a point of no return for this level
-    hardware = None
+    risk = None
     if subsystems:
-        no_fault = np.asarray(outcomes["p_no_fault"], dtype=float)
-        under = np.asarray(outcomes["p_fault_under_ice"], dtype=float)
-        open_water = np.asarray(outcomes["p_fault_open_water"], dtype=float)
-        lost = classes == OutcomeClass.LOST_UNDER_ICE
-        # derived: an energy loss under ice is avoided only by a fault in open water before
-        # it (the vehicle is recovered); any other sample is lost by a fault under ice
-        lost_any = np.where(lost, 1.0 - open_water, under)
-        success = (classes == OutcomeClass.SUCCESS) * no_fault
-        args = (replicate_sizes, scheme, confidence)
-        hardware = HardwareRisk(
-            no_fault=_mean(no_fault, *args), fault_under_ice=_mean(under, *args),
-            fault_open_water=_mean(open_water, *args),
-            success_without_fault=_mean(success, *args), lost_any_cause=_mean(lost_any, *args),
-            subsystems=int(subsystems))
-    return OutcomeTable(rows=tuple(rows), samples=int(classes.size),
+        if hardware is None:
+            hardware = _hardware_of_rows(outcomes, replicate_sizes)
+        risk = HardwareRisk(*(_mean(*h, scheme, confidence) for h in hardware),
+                            subsystems=int(subsystems))
+    return OutcomeTable(rows=tuple(rows), samples=samples,
                         point_of_no_return_km=tuple(quantiles),
                         share_with_point_of_no_return=float(np.mean(has)) if has.size else 0.0,
-                        hardware=hardware)
+                        hardware=risk)

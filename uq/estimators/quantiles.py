@@ -30,6 +30,7 @@ __all__ = [
     "QuantileInterval",
     "ExceedanceCurve",
     "exceedance_curve",
+    "exceedance_curve_at",
     "exceedance_curve_from_counts",
     "dkw_half_width",
     "quantile_interval",
@@ -151,6 +152,23 @@ def _curve(grid: np.ndarray, count: np.ndarray, n: int, confidence: float) -> Ex
     return ExceedanceCurve(confidence=confidence, n=n, **arrays)
 
 
+def exceedance_curve_at(grid, count_at_least, n: int, *,
+                        confidence: float = 0.95) -> ExceedanceCurve:
+    """The one rule of the exceedance curve, from counts: ``count_at_least[j]`` of ``n``
+    samples have ``V >= grid[j]``.
+
+    Pointwise Wilson bounds and the simultaneous DKW band. :func:`exceedance_curve` (values
+    held in memory) and :func:`exceedance_curve_from_counts` (counts streamed into fixed
+    bins, e.g. above an assessment's row limit) both count and end here.
+    """
+    confidence = check_confidence(confidence)
+    count = np.asarray(count_at_least, dtype=np.int64)
+    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1 or (
+            count.size and (count.min() < 0 or count.max() > n)):
+        raise EstimatorError(f"n must be an integer >= 1 and >= every count; got {n!r}")
+    return _curve(np.asarray(grid, dtype=float), count, int(n), confidence)
+
+
 def exceedance_curve(values, grid, *, confidence: float = 0.95) -> ExceedanceCurve:
     """Empirical exceedance curve ``P(V >= r)`` with pointwise and simultaneous bands.
 
@@ -177,7 +195,7 @@ def exceedance_curve(values, grid, *, confidence: float = 0.95) -> ExceedanceCur
         raise EstimatorError("exceedance_curve grid contains NaN")
     v_sorted = np.sort(v)
     count = v.size - np.searchsorted(v_sorted, r, side="left")
-    return _curve(r, count.astype(np.int64), int(v.size), confidence)
+    return exceedance_curve_at(r, count, int(v.size), confidence=confidence)
 
 
 def exceedance_curve_from_counts(edges, counts, n: int, *, above: int = 0,
@@ -218,7 +236,7 @@ def exceedance_curve_from_counts(edges, counts, n: int, *, above: int = 0,
         raise EstimatorError(
             f"n must be an integer >= the number of counted samples ({int(tail[0])}); got {n!r}"
         )
-    return _curve(e, tail, int(n), confidence)
+    return exceedance_curve_at(e, tail, int(n), confidence=confidence)
 
 
 # ---------------------------------------------------------------------- quantiles

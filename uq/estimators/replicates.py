@@ -44,17 +44,17 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Sequence
+from typing import NamedTuple, Sequence
 
 import numpy as np
 from scipy import stats
 
 from uq.estimators.intervals import (
     EstimatorError,
+    InsufficientSamplesError,
     IntervalEstimate,
     check_confidence,
     clopper_pearson_bounds,
-    mean_interval,
     proportion_interval,
     replicate_interval,
     mean_interval_from_moments,
@@ -67,6 +67,9 @@ __all__ = [
     "success_probability",
     "effective_sample_size",
     "replicated_mean",
+    "replicated_mean_from_moments",
+    "SampleMoments",
+    "sample_moments",
 ]
 
 #: Default number of independent scramblings of a randomised-QMC propagation: enough
@@ -184,6 +187,25 @@ def success_probability(counts: Sequence[tuple[int, int]], *, randomised: bool,
                                interval_kind="clopper-pearson")
 
 
+class SampleMoments(NamedTuple):
+    """Count, mean and sample standard deviation (ddof = 1) of one replicate's values."""
+
+    n: int
+    mean: float
+    sd: float
+
+
+def sample_moments(values) -> SampleMoments:
+    """:class:`SampleMoments` of an array of per-sample values (finite, at least one)."""
+    x = np.asarray(values, dtype=float).ravel()
+    if x.size == 0:
+        raise InsufficientSamplesError("a replicate needs at least one value")
+    if not np.all(np.isfinite(x)):
+        raise EstimatorError("replicated_mean values contain non-finite values")
+    return SampleMoments(int(x.size), float(np.mean(x)),
+                         float(np.std(x, ddof=1)) if x.size > 1 else float("nan"))
+
+
 def replicated_mean(parts: Sequence, *, randomised: bool,
                     confidence: float = 0.95) -> IntervalEstimate:
     """The one rule for a mean (e.g. the energy margin) over a replicated plan.
@@ -191,8 +213,10 @@ def replicated_mean(parts: Sequence, *, randomised: bool,
     Parameters
     ----------
     parts : sequence
-        One entry per replicate: either an array of per-sample values or a streamed sum
-        with ``.mean``, ``.sd`` and ``.n`` (:class:`uq.sampling.engine.SumTotal`).
+        One entry per replicate: either an array of per-sample values or its moments
+        (anything with ``.n``, ``.mean`` and ``.sd``: :class:`SampleMoments`, a streamed
+        :class:`uq.sampling.engine.SumTotal`). Arrays are turned into their moments and the
+        rule is :func:`replicated_mean_from_moments`.
     randomised : bool
         True for independent randomised-QMC replicates.
     confidence : float, default 0.95
@@ -203,18 +227,22 @@ def replicated_mean(parts: Sequence, *, randomised: bool,
         Student-t over the K replicate means (K >= 2, randomised), else Student-t over the
         samples of the single plan.
     """
+    return replicated_mean_from_moments(
+        [p if hasattr(p, "sd") and not isinstance(p, np.ndarray) else sample_moments(p)
+         for p in parts], randomised=randomised, confidence=confidence)
+
+
+def replicated_mean_from_moments(moments: Sequence, *, randomised: bool,
+                                 confidence: float = 0.95) -> IntervalEstimate:
+    """:func:`replicated_mean` from each replicate's count, mean and sd (``.n``, ``.mean``,
+    ``.sd``), e.g. moments streamed over every sample by the sampling engine."""
     confidence = check_confidence(confidence)
-    if not parts:
+    if not moments:
         raise EstimatorError("replicated_mean needs at least one replicate")
-    if randomised and len(parts) >= 2:
-        means = [p.mean if hasattr(p, "mean") and not isinstance(p, np.ndarray)
-                 else float(np.mean(p)) for p in parts]
-        return replicate_interval(means, confidence=confidence)
-    if len(parts) != 1:
+    if randomised and len(moments) >= 2:
+        return replicate_interval([m.mean for m in moments], confidence=confidence)
+    if len(moments) != 1:
         raise EstimatorError("a plan that is not randomised QMC has one replicate")
-    part = parts[0]
-    if isinstance(part, np.ndarray) or not hasattr(part, "sd"):
-        return mean_interval(np.asarray(part, dtype=float), confidence=confidence)
+    part = moments[0]
     return mean_interval_from_moments(part.n, part.mean, part.sd, confidence=confidence,
                                       method=f"student-t over {part.n} samples")
-

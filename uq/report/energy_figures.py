@@ -84,7 +84,9 @@ def energy_section(a, *, rows: int = DEFAULT_ROWS) -> EnergySection:
     # the one arrival rule (Outcomes.reaches_recovery) of the assessment, for the same rows
     reached = np.asarray(a.propagation.outcomes["reaches_recovery"], dtype=bool)[index]
     end = prof.end_above_reserve_Wh[reached]
-    sentence = (f"{index.size:,} of the {a.propagation.samples:,} samples re-flown: "
+    kept = a.propagation.kept
+    drawn = "" if kept is None or kept.every_row else f" (drawn from {kept.sentence()})"
+    sentence = (f"{index.size:,} of the {a.propagation.samples:,} samples re-flown{drawn}: "
                 + (f"of those that reach the recovery point, the median arrives with "
                    f"{_wh(np.median(end))} above the reserve after loiter and homing "
                    f"(5\u201395 %: {_wh(np.quantile(end, 0.05))} to "

@@ -35,9 +35,11 @@ def samples_frame(assessment) -> pd.DataFrame:
     Returns
     -------
     pandas.DataFrame
-        Index ``sample`` (0..n-1, plan order). Input columns keep their dotted names and file
-        units (the unit is in the name, e.g. ``..._m_s``); outcome columns are those of the
-        report's CSV (failure modes and legs by name).
+        Index ``sample``: the plan row of each sample kept (0..n-1 when every row is kept;
+        above the row limit the first rows of each replicate, ``Propagation.kept``). Input
+        columns keep their dotted names and file units (the unit is in the name, e.g.
+        ``..._m_s``); outcome columns are those of the report's CSV (failure modes and legs
+        by name).
     """
     prop = assessment.propagation
     sc = assessment.scenario
@@ -48,6 +50,8 @@ def samples_frame(assessment) -> pd.DataFrame:
     else:
         out = pd.DataFrame({k: np.asarray(v) for k, v in outcomes.items()})
     frame = pd.concat([inputs.reset_index(drop=True), out.reset_index(drop=True)], axis=1)
+    if prop.kept is not None and not prop.kept.every_row:
+        frame.index = prop.kept.row_index()
     frame.index.name = "sample"
     return frame
 
@@ -58,6 +62,7 @@ def export_attributes(assessment) -> dict[str, str | int]:
     sc = assessment.scenario
     design = {"scheme": st.scheme, "samples": st.samples, "replicates": st.replicates,
               "seed": st.seed}
+    kept = assessment.propagation.kept
     data = sorted({(s.file, s.sha256) for s in getattr(sc, "environment", ()) if s.file})
     return {
         "title": f"transit-risk per-sample inputs and outcomes: {sc.name}",
@@ -68,6 +73,7 @@ def export_attributes(assessment) -> dict[str, str | int]:
         "design": json.dumps(design, sort_keys=True),
         "data_files_sha256": json.dumps(dict(data), sort_keys=True),
         "transit_risk_version": str(assessment.versions.get("transit-risk", "")),
+        "kept_rows": kept.sentence() if kept is not None else "",
     }
 
 
@@ -82,7 +88,7 @@ def write_samples_netcdf(assessment, path: str | os.PathLike) -> Path:
     frame = samples_frame(assessment)
     names = _netcdf_names(frame.columns)
     ds = xr.Dataset({names[c]: ("sample", _column(frame[c])) for c in frame.columns},
-                    coords={"sample": np.arange(len(frame), dtype="int64")},
+                    coords={"sample": np.asarray(frame.index, dtype="int64")},
                     attrs=export_attributes(assessment))
     inputs = set(assessment.propagation.input_names)
     for c in frame.columns:

@@ -94,6 +94,21 @@ def _outcome_keys(prop) -> dict[str, Any]:
     }
 
 
+#: summary.json keys computed from the kept rows (every sample up to the row limit; above it
+#: the first rows of each replicate): everything else is a count or mean of every sample
+FROM_KEPT_ROWS = ("range_km.quantiles", "duration_days", "contingency", "recovery_window",
+                  "pilot_actions", "point_of_no_return_km", "knowledge_band", "test_ranking",
+                  "pinned_inputs", "surrogate", "surrogate_factor_indices")
+
+
+def kept_rows_dict(prop) -> dict[str, Any] | None:
+    """summary.json's ``kept_rows``: the rows behind the figures that need rows."""
+    kept = getattr(prop, "kept", None)
+    if kept is None:
+        return None
+    return {**kept.to_dict(), "used_for": list(FROM_KEPT_ROWS)}
+
+
 def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
     """Headline figures, decisions and run record of ``assessment`` as JSON-ready builtins.
 
@@ -157,6 +172,7 @@ def build_summary(assessment, *, sweep=None, comparison=None) -> dict[str, Any]:
         "p_reached_recovery": interval_dict(prop.p_arrive),
         "samples_to_settle": a.verdict.samples_to_settle,
         "samples": st.samples,
+        "kept_rows": kept_rows_dict(prop),
         "seed": st.seed,
         "scheme": st.scheme,
         "replicates": st.replicates,

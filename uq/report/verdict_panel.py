@@ -16,6 +16,7 @@ from typing import Any
 
 import numpy as np
 
+from uq.decisions.outcome_counts import OutcomeCounts, mode_leg_counts
 from uq.decisions.outcomes import OUTCOME_CLASS_NAMES, OutcomeClass
 from uq.report._format import Formatter
 from uq.simulate import FAILURE_MODE_NAMES, FailureMode
@@ -90,18 +91,28 @@ def zoom_gauge(p, required: float, fmt: Formatter) -> Gauge:
 
 
 def dominant_failure(outcomes, leg_names, fmt: Formatter) -> str:
-    """One sentence: the commonest (failure mode, leg) pair and its share of the failures."""
-    success = np.asarray(outcomes["success"], bool)
-    failures = int((~success).sum())
+    """One sentence: the commonest (failure mode, leg) pair and its share of the failures.
+
+    ``outcomes``: per-sample outcomes, or the :class:`uq.decisions.OutcomeCounts` of every
+    sample of a propagation (the same tally either way)."""
+    if isinstance(outcomes, OutcomeCounts):
+        cells, samples = outcomes.mode_leg(success=False), outcomes.samples
+    else:
+        success = np.asarray(outcomes["success"], bool)
+        cells = mode_leg_counts(outcomes["failure_mode"], outcomes["failing_leg"], success,
+                                len(leg_names))[:, :, 0]
+        samples = success.size
+    failures = int(cells.sum())
     if failures == 0:
-        return f"No sample failed (0 of {success.size:,})."
-    mode = np.asarray(outcomes["failure_mode"])[~success].astype(int)
-    leg = np.asarray(outcomes["failing_leg"])[~success].astype(int)
-    pairs, counts = np.unique(np.stack([mode, leg]), axis=1, return_counts=True)
+        return f"No sample failed (0 of {samples:,})."
+    # (mode, leg + 1) cells in row-major order: the pairs sorted by mode, then leg
+    flat = np.flatnonzero(cells)
+    counts = cells.ravel()[flat]
     order = np.argsort(-counts, kind="stable")
 
     def part(i):
-        m, j = int(pairs[0, i]), int(pairs[1, i])
+        m, j = divmod(int(flat[i]), cells.shape[1])
+        j -= 1
         where = f" on {leg_names[j]}" if 0 <= j < len(leg_names) else ""
         return (f"{FAILURE_MODE_NAMES[FailureMode(m)]}{where} ({int(counts[i]):,} of "
                 f"{failures:,} failures, {fmt.pct(counts[i] / failures)})")
@@ -214,7 +225,8 @@ def verdict_panel(a: Any, fmt: Formatter | None = None) -> VerdictPanel:
         level=_level(p), required=fmt.pct(v.required_probability),
         failure_sentence=failure_sentence,
         lost=_lost(a, fmt),
-        reason=dominant_failure(a.propagation.outcomes, [leg.name for leg in a.scenario.legs],
-                                fmt),
+        # the counts of every sample (a propagation without them: its rows)
+        reason=dominant_failure(getattr(a.propagation, "counts", None) or a.propagation.outcomes,
+                                [leg.name for leg in a.scenario.legs], fmt),
         go_sentences=go, full=gauge(p, v.required_probability, fmt),
         zoom=zoom_gauge(p, v.required_probability, fmt))

@@ -344,6 +344,7 @@ def render_html(a, *, images: dict[str, str], sweep_summary=None, pair=None,
         timings=timings, rare_event_rule=when_it_runs(),
         total_time=sum(timings.values()),
         range_q={round(q.q, 3): q for q in a.propagation.range_quantiles},
-        censored_fraction=float(np.mean(a.propagation.outcomes["range_censored"])),
+        censored_fraction=a.propagation.counts.censored / a.propagation.counts.samples,
+        kept=a.propagation.kept,
         range_at_route=fig_mod.curve_at(a.propagation.range_curve, a.propagation.route_km),
     )

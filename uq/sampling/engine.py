@@ -17,6 +17,11 @@ Reducer protocol
     ``partials`` is the list of all partials in block order.
 Optionally ``reducer.prepare(design) -> reducer`` is called once before streaming, so a
 reducer can learn the plan's layout (block size, n) — :class:`CollectReducer` uses it.
+Optionally ``reducer.fold(partials) -> partial`` merges a run of consecutive partials into
+one, such that ``reduce([fold(partials[:k])] + partials[k:]) == reduce(partials)`` bit for
+bit (integer sums, the left-to-right pairwise update, concatenation). :func:`stream` then
+folds every :data:`FOLD_BLOCKS` partials as they arrive, so the partials held at once do not
+grow with the number of blocks (a reducer with ``fold`` keeps memory flat in ``n``).
 
 The per-task function is a top-level function taking one picklable tuple, so
 ``concurrent.futures.ProcessPoolExecutor`` (or any object with ``.map(fn, iterable)``
@@ -47,7 +52,14 @@ __all__ = [
     "HistogramCounts",
     "CollectReducer",
     "MultiReducer",
+    "FOLD_BLOCKS",
+    "can_fold",
+    "merge_moments",
 ]
+
+#: :func:`stream` folds the partials it holds whenever this many have arrived (reducers
+#: with ``fold``): a few hundred kB of partials at most, whatever the number of blocks
+FOLD_BLOCKS = 64
 
 
 class EngineError(InputError):
@@ -169,16 +181,25 @@ def stream(
 
     mapper = map if executor is None else executor.map
     partials: list = []
+    folds = can_fold(reducer)
+    done = 0
     for task_partials in mapper(_run_task, tasks()):
         partials.extend(task_partials)
+        done += len(task_partials)
+        if folds and len(partials) >= FOLD_BLOCKS:
+            partials = [reducer.fold(partials)]  # exact: see the module docstring
         if progress is not None:
-            done = len(partials)
             progress(design.n if done == n_blocks else done * design.block_size)
-    if len(partials) != n_blocks:
+    if done != n_blocks:
         raise EngineError(
-            f"executor returned {len(partials)} block results for {n_blocks} blocks"
+            f"executor returned {done} block results for {n_blocks} blocks"
         )
     return reducer.reduce(partials)
+
+
+def can_fold(reducer) -> bool:
+    """Whether ``reducer`` merges runs of partials (``fold``; a MultiReducer when all do)."""
+    return bool(getattr(reducer, "foldable", hasattr(reducer, "fold")))
 
 
 # ---------------------------------------------------------------------- reducers
@@ -217,6 +238,9 @@ class CountReducer:
 
     def reduce(self, partials: list) -> CountTotal:
         return CountTotal(sum(p[0] for p in partials), sum(p[1] for p in partials))
+
+    def fold(self, partials: list) -> tuple[int, int]:
+        return tuple(self.reduce(partials))
 
 
 class GroupCountReducer:
@@ -258,6 +282,9 @@ class GroupCountReducer:
     def reduce(self, partials: list) -> list[CountTotal]:
         total = np.sum(partials, axis=0) if partials else np.zeros((2, self.offsets.size - 1))
         return [CountTotal(int(c), int(m)) for c, m in zip(total[0], total[1])]
+
+    def fold(self, partials: list) -> np.ndarray:
+        return np.sum(partials, axis=0)  # integer counts: exact in any grouping
 
 
 class SumTotal(NamedTuple):
@@ -320,16 +347,29 @@ class SumReducer:
 
     def reduce(self, partials: list) -> SumTotal:
         n, total, m2 = 0, 0.0, 0.0
-        for nb, tb, m2b in partials:
-            if nb == 0:
-                continue
-            if n == 0:
-                n, total, m2 = nb, tb, m2b
-                continue
-            delta = tb / nb - total / n
-            m2 = m2 + m2b + delta * delta * n * nb / (n + nb)
-            n, total = n + nb, total + tb
+        for part in partials:
+            n, total, m2 = merge_moments((n, total, m2), part)
         return SumTotal(n, total, m2)
+
+    def fold(self, partials: list) -> tuple[int, float, float]:
+        return tuple(self.reduce(partials))  # the left-to-right state: replayed exactly
+
+
+def merge_moments(left, right):
+    """``(n, sum, sum of squared deviations)`` of two runs of values, left then right.
+
+    The pairwise update of Chan, Golub & LeVeque (1979); an empty side returns the other
+    unchanged, so merging left to right from ``(0, 0, 0)`` is the one order of operations
+    that every streamed sum (:class:`SumReducer`, the per-group moments) uses.
+    """
+    n, total, m2 = left
+    nb, tb, m2b = right
+    if nb == 0:
+        return n, total, m2
+    if n == 0:
+        return nb, tb, m2b
+    delta = tb / nb - total / n
+    return n + nb, total + tb, m2 + m2b + delta * delta * n * nb / (n + nb)
 
 
 class HistogramCounts(NamedTuple):
@@ -397,6 +437,9 @@ class HistogramReducer:
             n=int(totals.sum()),
         )
 
+    def fold(self, partials: list) -> np.ndarray:
+        return np.sum(partials, axis=0)  # integer counts: exact in any grouping
+
 
 class CollectReducer:
     """Keep the per-sample outputs of the first ``limit`` rows of the plan.
@@ -407,12 +450,17 @@ class CollectReducer:
         Output names to keep.
     limit : int
         Maximum number of rows kept (the first rows of the plan, in plan order).
+    ranges : sequence of (start, stop), optional
+        The plan rows to keep instead of the first ``limit``: increasing, non-overlapping
+        row ranges (e.g. the first rows of each replicate of stacked plans); ``limit`` is
+        then their total.
 
     Returns (from :func:`stream`) a dict ``{key: array}`` with up to ``limit`` rows. Blocks
-    past the limit contribute nothing, so memory stays bounded by ``limit``.
+    past the limit (or outside the ranges) contribute nothing, so memory stays bounded by
+    ``limit``.
     """
 
-    def __init__(self, keys, limit: int, *, block_size: int | None = None) -> None:
+    def __init__(self, keys, limit: int, *, ranges=None, block_size: int | None = None) -> None:
         if isinstance(keys, str):
             keys = [keys]
         self.keys = tuple(keys)
@@ -421,13 +469,24 @@ class CollectReducer:
         if isinstance(limit, bool) or not isinstance(limit, (int, np.integer)) or limit < 0:
             raise EngineError(f"CollectReducer limit must be an integer >= 0; got {limit!r}")
         self.limit = int(limit)
+        if ranges is not None:
+            ranges = tuple((int(lo), int(hi)) for lo, hi in ranges)
+            ends = [v for r in ranges for v in r]
+            if any(b < a for a, b in zip(ends, ends[1:])) or sum(
+                    hi - lo for lo, hi in ranges) != self.limit:
+                raise EngineError(f"CollectReducer ranges must be increasing, non-overlapping "
+                                  f"row ranges totalling limit={self.limit}; got {ranges!r}")
+        self.ranges = ranges
         self.block_size = block_size
 
     def prepare(self, design: SampleDesign) -> "CollectReducer":
         """Bind to the plan's block size so blocks past ``limit`` are skipped."""
-        return CollectReducer(self.keys, self.limit, block_size=design.block_size)
+        return CollectReducer(self.keys, self.limit, ranges=self.ranges,
+                              block_size=design.block_size)
 
     def map(self, block_index: int, outputs: Any) -> dict | None:
+        if self.ranges is not None and self.block_size is not None:
+            return self._map_ranges(block_index * self.block_size, outputs)
         if self.block_size is None:
             offset, keep = 0, self.limit  # unbound: keep up to limit per block
         else:
@@ -437,8 +496,20 @@ class CollectReducer:
             return None
         return {key: _output(outputs, key)[:keep].copy() for key in self.keys}
 
+    def _map_ranges(self, first: int, outputs: Any) -> dict | None:
+        last = first + self.block_size
+        parts = [(max(lo, first) - first, min(hi, last) - first)
+                 for lo, hi in self.ranges if lo < last and hi > first]
+        if not parts:
+            return None
+        out = {}
+        for key in self.keys:
+            values = _output(outputs, key)
+            out[key] = np.concatenate([values[a:b] for a, b in parts])
+        return out
+
     def reduce(self, partials: list) -> dict:
-        kept = [p for p in partials if p is not None]
+        kept = self._kept(partials)
         result = {}
         for key in self.keys:
             if kept:
@@ -446,6 +517,26 @@ class CollectReducer:
             else:
                 result[key] = np.empty(0)
         return result
+
+    @staticmethod
+    def _kept(partials: list) -> list:
+        """The blocks' kept rows in order (a folded partial holds several blocks')."""
+        out = []
+        for p in partials:
+            if isinstance(p, _KeptBlocks):
+                out.extend(p)
+            elif p is not None:
+                out.append(p)
+        return out
+
+    def fold(self, partials: list) -> "_KeptBlocks":
+        """The kept rows of the blocks so far, as they are (no copy; concatenated once, at
+        the end)."""
+        return _KeptBlocks(self._kept(partials))
+
+
+class _KeptBlocks(list):
+    """Several blocks' kept rows: a folded partial of :class:`CollectReducer`."""
 
 
 class MultiReducer:
@@ -472,3 +563,10 @@ class MultiReducer:
         return {
             name: r.reduce([p[name] for p in partials]) for name, r in self.reducers.items()
         }
+
+    @property
+    def foldable(self) -> bool:
+        return all(can_fold(r) for r in self.reducers.values())
+
+    def fold(self, partials: list) -> dict:
+        return {name: r.fold([p[name] for p in partials]) for name, r in self.reducers.items()}

@@ -190,7 +190,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
            block_size: int = DEFAULT_BLOCK_SIZE, polynomial_chaos: bool = True,
            target_half_width: float | None = None, max_samples: int = 2**20,
            rare_events: str | None = None, max_looks: int | None = None,
-           extends: Any = None,
+           extends: Any = None, kept_rows: int | None = None,
            progress: Callable[[str, int, int], None] | None = None,
            executor=None) -> Assessment:
     """Full assessment of ``scenario`` (see the module docstring).
@@ -212,13 +212,18 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     ``rare_events`` ("auto", "always" or "off"; default the scenario's ``[analysis]``)
     chooses when P(fail) and the failure classes are estimated by subset simulation
     (:mod:`uq.studies.rare`); ``Assessment.estimators()`` names the estimator of each number.
+    ``kept_rows`` (default :data:`uq.studies.propagation.KEPT_ROWS`) is the row limit: up
+    to it every sample's row is kept; above it only the first ``kept_rows / replicates`` rows
+    of each replicate, P(success), the outcome classes, failure modes, the mean margin and the
+    range curve are streamed over every sample, and what needs rows says it used the subsample
+    (``Propagation.kept``), so memory does not grow with ``samples``.
     ``progress(stage, done, total)`` is called as the stages advance (for a progress bar).
     """
     options = dict(samples=samples, seed=seed, scheme=scheme, replicates=replicates,
                    sensitivity_base_n=sensitivity_base_n, workers=workers,
                    chunk_blocks=chunk_blocks, block_size=block_size,
                    polynomial_chaos=polynomial_chaos, rare_events=rare_events,
-                   max_looks=max_looks)
+                   max_looks=max_looks, kept_rows=kept_rows)
     settings, look = _settings(scenario, **options), None
     if extends is not None:
         settings, look = _extension(scenario, extends, options, target_half_width)
@@ -274,6 +279,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             "scramblings; the range-curve bands, quantile intervals and failure shares treat "
             "the pooled scrambled points as independent samples, which is conservative for "
             "randomised quasi-Monte Carlo.")
+    if not prop.kept.every_row:
+        cautions.append(prop.kept.caution())
     looks_taken = sequential.looks if look is None else look
     if sequential.rule.max_looks > 1:
         cautions.append(sequential.rule.describe(looks_taken))
@@ -317,10 +324,9 @@ def _rare_events(scenario, settings: Settings, prop: Propagation, *, seed, execu
     """The rare-event stage when ``settings.rare_events`` and the main sample ask for it."""
     if not scenario.inputs:
         return None
-    success = prop.outcomes["success"]
     reason = rare_event_reason(
-        settings.rare_events, failures=int(success.size - np.count_nonzero(success)),
-        samples=int(success.size), p_success=prop.p_success,
+        settings.rare_events, failures=int(prop.p_success.n - prop.p_success.count),
+        samples=int(prop.p_success.n), p_success=prop.p_success,
         required_probability=scenario.decision.required_probability)
     if reason is None:
         return None
@@ -383,9 +389,10 @@ def _propagate_to_target(scenario, settings: Settings, *, executor, target_half_
 
 
 def _mode_names(scenario, codes) -> dict[int, str]:
-    """The failure modes possible for the vehicle kind and route, plus any that occurred."""
+    """The failure modes possible for the vehicle kind and route, plus any that occurred
+    (``codes``: the codes that occurred)."""
     names = possible_failure_modes(scenario)
-    for code in np.unique(np.asarray(codes)).tolist():
+    for code in codes:
         if int(code) not in names and int(code) != 0:
             names[int(code)] = FAILURE_MODE_NAMES[FailureMode(int(code))]
     return dict(sorted(names.items()))
@@ -398,9 +405,9 @@ def _decide(scenario, settings, prop: Propagation, sens: Sensitivity | None,
     out = prop.outcomes
     p = prop.p_success
     verdict = decisions.verdict_for(p, required_probability=dec.required_probability)
-    failures = decisions.failure_breakdown(
-        out["failure_mode"], out["failing_leg"],
-        mode_names=_mode_names(scenario, out["failure_mode"]),
+    # counts of every sample (the kept rows' own when every row is kept)
+    failures = decisions.failure_breakdown_from_counts(
+        prop.counts.mode_leg(), mode_names=_mode_names(scenario, prop.counts.present_modes()),
         leg_names=[leg.name for leg in scenario.legs], confidence=conf,
         failure_probability=(1.0 - p.estimate, 1.0 - p.upper, 1.0 - p.lower))
     # every vehicle that reaches the recovery point, on its reserve if need be, must be met

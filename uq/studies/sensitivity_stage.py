@@ -134,6 +134,20 @@ def sensitivity_analysis(scenario: Scenario, settings: Settings, propagation: Pr
         **({"pce": None, "pce_indices": None, "pce_space": "physical inputs"} | pce_part))
 
 
+def _kept_unit_points(propagation, n: int) -> np.ndarray:
+    """Unit points of the first ``n`` kept rows, generated for those rows only."""
+    kept = propagation.kept
+    per = kept.per_replicate if kept is not None else propagation.designs[0].n
+    pieces, left = [], n
+    for design in propagation.designs:
+        if left <= 0:
+            break
+        take = min(per, left)
+        pieces.append(design.unit_points(0, take))
+        left -= take
+    return np.concatenate(pieces)
+
+
 def _margin_surrogate(scenario, settings, propagation, input_model, group_list, *, seed) -> dict:
     """PCE of the energy margin with per-factor indices and their bootstrap intervals."""
     from uq.estimators import pce as pce_module
@@ -142,7 +156,8 @@ def _margin_surrogate(scenario, settings, propagation, input_model, group_list, 
     names, d = scenario.input_names, len(scenario.inputs)
     grouped = any(len(g) > 1 for g in group_list)
     boot_seed = seed.spawn(1)[0]
-    n_fit = min(propagation.samples, 2048)
+    # the first rows kept (replicate 0's first rows whenever a replicate has 2,048 of them)
+    n_fit = min(propagation.kept_rows, 2048)
     y = propagation.outcomes["margin_Wh"][:n_fit]
     space = "physical inputs"
     if input_model.is_independent:
@@ -153,7 +168,7 @@ def _margin_surrogate(scenario, settings, propagation, input_model, group_list, 
 
         space = "independent unit variables; correlated inputs by group"
         dists = [chaospy.Uniform(0.0, 1.0) for _ in names]
-        xs = np.concatenate([dz.unit_points() for dz in propagation.designs])[:n_fit, :d]
+        xs = _kept_unit_points(propagation, n_fit)[:, :d]
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", pce_module.PolynomialChaosQualityWarning)
         pce = pce_module.fit_polynomial_chaos(
