@@ -34,7 +34,7 @@ from contextlib import contextmanager
 from pathlib import Path
 from typing import Sequence
 
-from uq.cli.allocator import keep_blocks_in_heap
+from uq.sampling.allocator import keep_blocks_in_heap
 from uq.cli.console import PROG, Console, one_line
 from uq.scenario.demos import DEMOS, STARTERS, STUDY_STARTER_BASE, demo_path, starter_text
 
@@ -544,7 +544,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit status (0 ok, 1 internal error, 2 user error,
     130 interrupted, 143 terminated)."""
     arguments = list(sys.argv[1:] if argv is None else argv)
-    keep_blocks_in_heap()  # large temporaries reused, not page-faulted anew (uq/cli/allocator.py)
+    keep_blocks_in_heap()  # large temporaries reused, not page-faulted anew (uq/sampling/allocator.py)
     parser = build_parser()
     try:
         args = parser.parse_args(arguments)

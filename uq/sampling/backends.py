@@ -36,6 +36,8 @@ from typing import Any, Callable, Iterable, Iterator
 import numpy as np
 import threadpoolctl
 
+from uq.sampling.allocator import keep_blocks_in_heap, worker_environment
+
 __all__ = [
     "BackendError",
     "DaskUnavailableError",
@@ -114,8 +116,8 @@ def local_executor(workers: int) -> Iterator[ProcessPoolExecutor | None]:
     if workers == 1:
         yield None
         return
-    with ProcessPoolExecutor(workers) as pool:
-        yield pool
+    with ProcessPoolExecutor(workers, initializer=keep_blocks_in_heap) as pool:
+        yield pool  # the workers are ours: the command line's allocator thresholds
 
 
 def _identity(obj: Any) -> Any:
@@ -270,10 +272,17 @@ def dask_executor(scheduler: str | None = None, *, scheduler_file: str | os.Path
         with distributed.Client(**target, set_as_default=False) as client:
             yield DaskExecutor(client, retries=retries)
         return
-    with distributed.LocalCluster(
-        n_workers=local_workers, threads_per_worker=1, processes=True, host="127.0.0.1",
-        dashboard_address=None, silence_logs=logging.WARNING,
-    ) as cluster, distributed.Client(cluster, set_as_default=False) as client:
+    import dask
+
+    # the workers are ours: they start with the allocator thresholds of the command line
+    # (uq.sampling.allocator), not the nanny's MALLOC_TRIM_THRESHOLD_=65536
+    environ = dict(dask.config.get("distributed.nanny.pre-spawn-environ", {}) or {})
+    environ.update(worker_environment())
+    with dask.config.set({"distributed.nanny.pre-spawn-environ": environ}), \
+            distributed.LocalCluster(
+                n_workers=local_workers, threads_per_worker=1, processes=True,
+                host="127.0.0.1", dashboard_address=None, silence_logs=logging.WARNING,
+            ) as cluster, distributed.Client(cluster, set_as_default=False) as client:
         yield DaskExecutor(client, retries=retries)
 
 
