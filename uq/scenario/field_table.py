@@ -299,6 +299,7 @@ FIELDS: tuple[Field, ...] = (
     _f("analysis", "sensitivity_base_n", Integer(2, "Sobol' base sample size"), "base sample size of the Sobol'-index design (a power of two)"),
     _f("analysis", "rare_events", Choice(("auto", "always", "off"), "when to use the rare-event estimator"), "when to use the rare-event estimator"),
     _f("analysis", "max_looks", Integer(1, "looks at P(success)"), "looks at P(success) a run may take (sequential extension)"),
+    _f("analysis", "kept_rows", Integer(2, "rows kept"), "row limit: above it only the first `kept_rows / replicates` rows of each replicate are kept (quantiles, contingency, knowledge band, test ranking, per-sample files); counts and means use every sample"),
 )
 
 #: Sections in the order the reader lists them; the table's own sections first.

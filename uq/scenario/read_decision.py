@@ -130,6 +130,10 @@ class DecisionSections(FieldReader):
             self.fail("analysis.samples", result.samples,
                       "a power of two for scheme = 'sobol' (scrambled Sobol' points need n = 2^m), e.g. "
                       f"{_next_power_of_two(result.samples)}")
+        if result.kept_rows < 2 * result.replicates:
+            self.fail("analysis.kept_rows", result.kept_rows,
+                      f"at least 2 rows per replicate ({2 * result.replicates} with "
+                      f"replicates = {result.replicates})")
         if not _power_of_two(result.sensitivity_base_n):
             self.fail("analysis.sensitivity_base_n", result.sensitivity_base_n,
                       "a power of two (the Sobol'-index design is built on Sobol' points), e.g. "

@@ -280,6 +280,12 @@ class RankCorrelation:
     coefficient: float  # Spearman rank correlation in (-1, 1)
 
 
+#: Default row limit of a propagation (``[analysis] kept_rows``): up to this many samples every
+#: row is kept; beyond it only the first ``kept_rows / replicates`` rows of each replicate, and
+#: counts and means stream over every sample (why 2^17: :data:`uq.studies.propagation.KEPT_ROWS`).
+DEFAULT_KEPT_ROWS = 2**17
+
+
 @dataclass(frozen=True)
 class Analysis:
     """Default numerical settings of an assessment (the CLI may override them)."""
@@ -291,6 +297,7 @@ class Analysis:
     sensitivity_base_n: int = 512
     rare_events: str = "auto"  # "auto" | "always" | "off" (uq.studies.rare)
     max_looks: int = 1  # looks at P(success) the run may take (uq.studies.extension)
+    kept_rows: int = DEFAULT_KEPT_ROWS  # row limit of the propagation (uq.studies.propagation)
 
 
 @dataclass(frozen=True)

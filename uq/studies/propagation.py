@@ -32,6 +32,7 @@ from uq.sampling.engine import CollectReducer, GroupCountReducer, MultiReducer, 
 from uq.sampling.inputs import InputModel
 from uq.sampling.plans import DEFAULT_BLOCK_SIZE, SampleDesign, StackedDesigns, plan_size
 from uq.scenario import Scenario
+from uq.scenario.types import DEFAULT_KEPT_ROWS
 from uq.simulate import Outcomes, ScenarioModel
 from uq.studies import streamed_figures
 
@@ -50,7 +51,7 @@ _DURATION_QUANTILES = (0.5, 0.9, 0.95)
 #: 5 % and 95 % quantiles' order-statistic intervals to about +-0.12 percentage points of
 #: probability (derived: 1.96 sqrt(q (1 - q) / n) at q = 0.05, n = 2^17), well inside the
 #: spread of the inputs that the review cares about.
-KEPT_ROWS = 2**17
+KEPT_ROWS = DEFAULT_KEPT_ROWS  # 2**17, the default of the scenario's [analysis] kept_rows
 
 
 @dataclass(frozen=True)
@@ -118,7 +119,8 @@ def _settings(scenario: Scenario, **overrides) -> Settings:
         polynomial_chaos=overrides.get("polynomial_chaos", True),
         rare_events=overrides.get("rare_events") or getattr(a, "rare_events", "auto"),
         max_looks=int(overrides.get("max_looks") or getattr(a, "max_looks", 1)),
-        kept_rows=_kept_rows(overrides.get("kept_rows"), int(replicates)),
+        kept_rows=_kept_rows(a.kept_rows if overrides.get("kept_rows") is None
+                             else overrides["kept_rows"], int(replicates)),
     )
 
 

@@ -195,3 +195,19 @@ def test_the_report_of_a_subsample_names_it_and_numbers_its_rows(both, tmp_path)
         frame = pd.read_parquet(folder / "samples.parquet")
         # the per-sample file holds the kept rows under their own plan row numbers
         np.testing.assert_array_equal(frame["sample"], few.propagation.kept.row_index())
+
+
+def test_the_scenario_file_sets_the_row_limit_and_a_bad_one_is_refused(tmp_path):
+    # [analysis] kept_rows reaches the propagation; fewer than 2 rows per replicate is a
+    # one-line error naming the file and the key (the input rules of the README)
+    from uq.scenario.errors import ScenarioError
+
+    text = (CONFIGS / "under_ice_section.toml").read_text()
+    good = tmp_path / "limit.toml"
+    good.write_text(text.replace("[analysis]", "[analysis]\nkept_rows = 4096", 1))
+    assert _settings(load_scenario(good)).kept_rows == 4096
+    assert _settings(load_scenario(good), kept_rows=512).kept_rows == 512  # the API's wins
+    bad = tmp_path / "bad.toml"
+    bad.write_text(text.replace("[analysis]", "[analysis]\nkept_rows = 8", 1))
+    with pytest.raises(ScenarioError, match=r"bad\.toml.*analysis\.kept_rows.*2 rows per replicate"):
+        load_scenario(bad)
