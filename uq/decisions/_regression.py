@@ -181,11 +181,12 @@ def _bootstrap_values(x: np.ndarray, nb: np.ndarray, n_bootstrap: int, gen: np.r
             [xs[:, ia] * xs[:, ib], (xs[:, :, None] * inc[:, None, :]).reshape(n, -1)], axis=1
         )
     reps = np.empty(n_bootstrap)
-    # the resamples' row counts, drawn in the order of one replicate after another; the
-    # weighted column sums of a batch of replicates are one matrix product
-    counts = [np.bincount(gen.integers(0, n, n), minlength=n) for _ in range(n_bootstrap)]
+    # the resamples' row counts, drawn one replicate after another (a batch at a time, so at
+    # most one batch of n-row weights is held); a batch's weighted column sums are one product
     for lo in range(0, n_bootstrap, _REPLICATES_PER_PRODUCT):
-        weights = np.array(counts[lo:lo + _REPLICATES_PER_PRODUCT], dtype=float)
+        weights = np.array([np.bincount(gen.integers(0, n, n), minlength=n)
+                            for _ in range(min(_REPLICATES_PER_PRODUCT, n_bootstrap - lo))],
+                           dtype=float)
         batch_sums = weights @ cross if precompute else None
         for b, w in enumerate(weights, start=lo):  # loop over replicates, not samples
             if precompute:
