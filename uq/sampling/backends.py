@@ -116,8 +116,18 @@ def local_executor(workers: int) -> Iterator[ProcessPoolExecutor | None]:
     if workers == 1:
         yield None
         return
-    with ProcessPoolExecutor(workers, initializer=keep_blocks_in_heap) as pool:
-        yield pool  # the workers are ours: the command line's allocator thresholds
+    with ProcessPoolExecutor(workers, initializer=_start_worker) as pool:
+        yield pool
+
+
+def _start_worker() -> None:
+    """Set up a worker process of :func:`local_executor` (the workers are ours): the command
+    line's allocator thresholds, and one BLAS thread for the process's life (the workers
+    share the cores among themselves; the input model's copula is a matrix product). A
+    local Dask cluster's workers get the same through their environment (:func:`dask_executor`;
+    Dask itself exports OPENBLAS_NUM_THREADS=1 to them)."""
+    keep_blocks_in_heap()
+    threadpoolctl.threadpool_limits(limits=1, user_api="blas")
 
 
 def _identity(obj: Any) -> Any:

@@ -36,7 +36,6 @@ from typing import Any, Callable, Iterable, NamedTuple, Protocol, runtime_checka
 import numpy as np
 
 from uq.errors import InputError
-from uq.sampling.backends import one_blas_thread
 from uq.sampling.plans import SampleDesign
 
 __all__ = [
@@ -102,13 +101,10 @@ def _output(outputs: Any, key: str | None) -> np.ndarray:
     )
 
 
-@one_blas_thread
 def _run_task(task: tuple) -> list:
     """Evaluate consecutive blocks ``[first, last)``; returns their partials in order.
 
-    Top-level (picklable) so that process pools can run it. One BLAS thread in the worker too
-    (the input model's copula is a matrix product): the workers share the cores among
-    themselves, and a BLAS pool in each would compete for them.
+    Top-level (picklable) so that process pools can run it.
     """
     design, model_fn, reducer, input_model, first, last = task
     partials = []

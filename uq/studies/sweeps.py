@@ -173,7 +173,6 @@ def plan_settings(scenario: Scenario, *, samples: int | None = None, seed: int |
                      replicates=replicates)
 
 
-@one_blas_thread  # in the worker process too (see uq.sampling.engine._run_task)
 def _evaluate_block(task):
     """Outcomes of one block of rows: (model, rows) -> model(rows)."""
     model, rows = task

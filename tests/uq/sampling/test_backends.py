@@ -222,3 +222,18 @@ def test_a_study_sends_its_model_once_and_each_task_stays_small():
     assert len(models) == 1 and len(pickle.dumps(models[0])) > 20_000
     assert len(client.shipped) == study.replicates and max(client.shipped) <= 100_000
     pd.testing.assert_frame_equal(on_dask.to_frame(), local.to_frame())
+
+
+def _blas_threads_here(_):
+    import numpy as np  # noqa: F401  (loads numpy's BLAS)
+    from threadpoolctl import threadpool_info
+
+    return [i["num_threads"] for i in threadpool_info() if i["user_api"] == "blas"]
+
+
+def test_process_pool_workers_run_one_blas_thread():
+    """The pool's workers share the cores, so each keeps one BLAS thread for its life
+    (threadpoolctl's own report, read inside the worker)."""
+    with backends.local_executor(2) as ex:
+        seen = list(ex.map(_blas_threads_here, range(4)))
+    assert all(threads and all(n == 1 for n in threads) for threads in seen)
