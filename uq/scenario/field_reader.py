@@ -70,6 +70,11 @@ class FieldReader:
         keys = section(name, self.kind)
         return self.read_fields(table, name, keys.fields, keys.required, other_kind=keys.other_kind or None)
 
+    def plain_section(self, value: Any, name: str, cls):
+        """Section ``name`` read as a table of its field-table keys into ``cls`` (a section
+        with no rule beyond its keys' own)."""
+        return cls(**self.read_section(self.table(value, name), name))
+
     def unknown(self, key: str, value: Any, path: str, known: list[str], *,
                 other_kind: Mapping[str, str] | None = None):
         close = difflib.get_close_matches(str(key), known, n=1, cutoff=0.6)

@@ -21,8 +21,7 @@ class DecisionSections(FieldReader):
     """Readers of the hardware, correlations, decision and analysis sections."""
 
     def hardware(self, value: Any) -> Hardware:
-        table = self.table(value, "hardware")
-        return Hardware(**self.read_section(table, "hardware"))
+        return self.plain_section(value, "hardware", Hardware)
 
     def subsystems(self, value: Any, path: str) -> tuple[Subsystem, ...]:
         if not isinstance(value, (list, tuple)):

@@ -95,12 +95,10 @@ class RouteSections(FieldReader):
                        f"{where} (the vehicle runs at that depth)", strict=False)
 
     def recovery(self, value: Any) -> Recovery:
-        table = self.table(value, "recovery")
-        return Recovery(**self.read_section(table, "recovery"))
+        return self.plain_section(value, "recovery", Recovery)
 
     def under_ice(self, value: Any) -> UnderIce:
-        table = self.table(value, "under_ice")
-        return UnderIce(**self.read_section(table, "under_ice"))
+        return self.plain_section(value, "under_ice", UnderIce)
 
     def leg_name(self, value: Any, path: str) -> str:
         """A leg's name, already checked by :meth:`legs` (letters, digits, _ and -; unique)."""

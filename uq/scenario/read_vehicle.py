@@ -77,8 +77,7 @@ class VehicleSections(FieldReader):
 
     # ------------------------------------------------------------------ other sections
     def battery(self, value: Any) -> Battery:
-        table = self.table(value, "battery")
-        return Battery(**self.read_section(table, "battery"))
+        return self.plain_section(value, "battery", Battery)
 
     def curve(self, value: Any, path: str, keys: tuple[str, str], x_range: Range,
               y_range: Range) -> tuple[tuple[float, ...], tuple[float, ...]]:
@@ -117,12 +116,10 @@ class VehicleSections(FieldReader):
         return GliderSetpoint(**out)
 
     def fouling(self, value: Any) -> Fouling:
-        table = self.table(value, "fouling")
-        return Fouling(**self.read_section(table, "fouling"))
+        return self.plain_section(value, "fouling", Fouling)
 
     def limits(self, value: Any) -> Limits:
-        table = self.table(value, "limits")
-        return Limits(**self.read_section(table, "limits"))
+        return self.plain_section(value, "limits", Limits)
 
     def battery_in_hull(self, vehicle: PropellerVehicle, battery: Battery) -> None:
         """The battery's energy per litre of hull must be one a pack can hold."""
