@@ -7,7 +7,6 @@ README, the reader's behaviour), which is the point of a drift test.
 from __future__ import annotations
 
 import copy
-import importlib.util
 import tomllib
 from pathlib import Path
 
@@ -24,17 +23,10 @@ BASE = {"propeller": STARTERS / "propeller_hull.toml", "glider": STARTERS / "gli
 ARRAYS = ("legs", "decision.tests", "hardware.subsystems", "correlations")
 
 
-def _readme_tool():
-    spec = importlib.util.spec_from_file_location("readme_tables", ROOT / "scripts" / "readme_tables.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
-
-
-def test_the_readme_tables_are_the_code_tables():
+def test_the_readme_tables_are_the_code_tables(project_script):
     # regenerate both generated regions (scenario reference and envelope) and compare
     text = (ROOT / "README.md").read_text(encoding="utf-8")
-    assert _readme_tool().regenerate(text) == text, (
+    assert project_script("readme_tables").regenerate(text) == text, (
         "README.md is out of date: run python scripts/readme_tables.py")
 
 
